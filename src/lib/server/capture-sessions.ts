@@ -1,0 +1,70 @@
+import { count, desc, eq, isNull, like, or, type SQL } from 'drizzle-orm';
+import { db } from './db';
+import { captureSessions, clips, type SessionStatus } from './db/schema';
+import { newId } from './ids';
+import type { WorkspaceScope } from './scope';
+
+export interface SessionFilters {
+	search?: string;
+	status?: SessionStatus;
+	includeArchived?: boolean;
+}
+
+export function listSessions(scope: WorkspaceScope, filters: SessionFilters = {}) {
+	const conditions: (SQL | undefined)[] = [];
+	if (!filters.includeArchived) conditions.push(isNull(captureSessions.archivedAt));
+	if (filters.status) conditions.push(eq(captureSessions.status, filters.status));
+	if (filters.search) {
+		const pattern = `%${filters.search.replace(/[%_]/g, (c) => '\\' + c)}%`;
+		conditions.push(or(like(captureSessions.name, pattern), like(captureSessions.site, pattern)));
+	}
+	return db
+		.select({
+			id: captureSessions.id,
+			name: captureSessions.name,
+			site: captureSessions.site,
+			captureDate: captureSessions.captureDate,
+			status: captureSessions.status,
+			updatedAt: captureSessions.updatedAt,
+			clipCount: count(clips.id)
+		})
+		.from(captureSessions)
+		.leftJoin(clips, eq(clips.sessionId, captureSessions.id))
+		.where(scope.where(captureSessions, ...conditions))
+		.groupBy(captureSessions.id)
+		.orderBy(desc(captureSessions.updatedAt))
+		.all();
+}
+
+export interface NewSession {
+	name: string;
+	site?: string;
+	captureDate?: string | null;
+	rigNotes?: string;
+}
+
+export function createSession(scope: WorkspaceScope, createdBy: string | null, input: NewSession) {
+	const id = newId();
+	db.insert(captureSessions)
+		.values({
+			id,
+			workspaceId: scope.workspaceId,
+			name: input.name,
+			site: input.site ?? '',
+			captureDate: input.captureDate ?? null,
+			rigNotes: input.rigNotes ?? '',
+			createdBy
+		})
+		.run();
+	return scope.session(id);
+}
+
+export function clipsOfSession(scope: WorkspaceScope, sessionId: string) {
+	return db.select().from(clips).where(scope.where(clips, eq(clips.sessionId, sessionId))).all();
+}
+
+export function sessionWithClips(scope: WorkspaceScope, sessionId: string) {
+	const session = scope.session(sessionId);
+	return { session, clips: clipsOfSession(scope, sessionId) };
+}
+
