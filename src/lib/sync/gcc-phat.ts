@@ -1,0 +1,96 @@
+import { nextPowerOfTwo, realSpectrum, inverseRealSpectrum } from './fft';
+
+/**
+ * Which part of the spectrum may decide a delay. Microphones disagree below a few hundred
+ * hertz (wind rumble, handling), so those bins get no weight; the edges are raised-cosine
+ * tapers so the correlation peak has no ringing from a brick-wall cut.
+ */
+export interface BandWeighting {
+	/** Weight reaches 1 at this frequency, rising from 0 at half of it. */
+	lowHz: number;
+	/** Weight is 1 up to this frequency, falling to 0 at 1.25× (or at Nyquist). */
+	highHz: number;
+}
+
+export interface GccPhatOptions {
+	sampleRate: number;
+	/** 1 is the phase transform of Knapp & Carter; 0 is plain cross-correlation; between is partial whitening. */
+	phatExponent?: number;
+	band?: BandWeighting | null;
+	/** FFT size; defaults to the next power of two ≥ a.length + b.length − 1 (no circular wrap). */
+	size?: number;
+}
+
+/**
+ * r[k] = Σₙ a[n+k]·b[n] after spectral weighting, so a peak at lag k > 0 means the content of b
+ * appears k samples later in a. Stored circularly: lag k at index k, lag −k at index size − k.
+ */
+export interface CrossCorrelation {
+	size: number;
+	values: Float64Array;
+	/** The weighted cross spectrum A·B̄·w (bins 0..size/2, interleaved re/im) that `values` is the inverse of. */
+	weightedSpectrum: Float64Array;
+	/** Sum of weights that were applied, for normalisation: a perfect PHAT match peaks at weightSum·2/size. */
+	peakScale: number;
+}
+
+export function bandWeight(frequencyHz: number, nyquistHz: number, band: BandWeighting): number {
+	if (frequencyHz <= 0 || frequencyHz >= nyquistHz) return 0;
+	const lowStart = band.lowHz / 2;
+	const highEnd = Math.min(band.highHz * 1.25, nyquistHz);
+	if (frequencyHz <= lowStart || frequencyHz >= highEnd) return 0;
+	if (frequencyHz < band.lowHz) return 0.5 - 0.5 * Math.cos((Math.PI * (frequencyHz - lowStart)) / (band.lowHz - lowStart));
+	if (frequencyHz > band.highHz) {
+		return 0.5 + 0.5 * Math.cos((Math.PI * (frequencyHz - band.highHz)) / (highEnd - band.highHz));
+	}
+	return 1;
+}
+
+export function lagValue(correlation: CrossCorrelation, lag: number): number {
+	const { size, values } = correlation;
+	return values[((lag % size) + size) % size];
+}
+
+/** Weighted cross-correlation from two half spectra of the same size. */
+export function gccPhatFromSpectra(
+	spectrumA: Float64Array,
+	spectrumB: Float64Array,
+	size: number,
+	options: GccPhatOptions
+): CrossCorrelation {
+	const exponent = options.phatExponent ?? 1;
+	const nyquist = options.sampleRate / 2;
+	const half = size / 2;
+	const weighted = new Float64Array(size + 2);
+	let maxMagnitude = 0;
+	for (let k = 0; k <= half; k++) {
+		const re = spectrumA[2 * k] * spectrumB[2 * k] + spectrumA[2 * k + 1] * spectrumB[2 * k + 1];
+		const im = spectrumA[2 * k + 1] * spectrumB[2 * k] - spectrumA[2 * k] * spectrumB[2 * k + 1];
+		weighted[2 * k] = re;
+		weighted[2 * k + 1] = im;
+		const magnitude = Math.hypot(re, im);
+		if (magnitude > maxMagnitude) maxMagnitude = magnitude;
+	}
+	// Guard the division: bins with (numerically) no energy in either signal carry no phase.
+	const floor = maxMagnitude * 1e-12;
+	let weightSum = 0;
+	for (let k = 0; k <= half; k++) {
+		const band = options.band ? bandWeight((k * options.sampleRate) / size, nyquist, options.band) : 1;
+		const re = weighted[2 * k];
+		const im = weighted[2 * k + 1];
+		const magnitude = Math.hypot(re, im);
+		let w = 0;
+		if (band > 0 && magnitude > floor) w = exponent === 0 ? band : band / Math.pow(magnitude, exponent);
+		weighted[2 * k] = re * w;
+		weighted[2 * k + 1] = im * w;
+		weightSum += band * (k === 0 || k === half ? 1 : 2);
+	}
+	const values = inverseRealSpectrum(weighted, size);
+	return { size, values, weightedSpectrum: weighted, peakScale: weightSum / size };
+}
+
+/** Generalised cross-correlation with phase transform (Knapp & Carter 1976), zero-padded, via fft.js. */
+export function gccPhat(a: ArrayLike<number>, b: ArrayLike<number>, options: GccPhatOptions): CrossCorrelation {
+	const size = options.size ?? nextPowerOfTwo(a.length + b.length - 1);
+	return gccPhatFromSpectra(realSpectrum(a, size), realSpectrum(b, size), size, options);
+}

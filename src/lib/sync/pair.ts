@@ -1,0 +1,318 @@
+import { fitDrift, defaultDriftFitOptions, type DriftFitOptions } from './drift-fit';
+import { nextPowerOfTwo, realSpectrum } from './fft';
+import { gccPhat, gccPhatFromSpectra, type BandWeighting } from './gcc-phat';
+import { onsetEnvelope, type OnsetEnvelope } from './onset-envelope';
+import { peakToSidelobeRatio, refinePeakLag, topPeaks } from './peak';
+import type { PairRelation, PcmTrack } from './types';
+
+/** A clip ready for pairing: its PCM plus the low-rate envelope the coarse search uses. */
+export interface AnalysisTrack {
+	pcm: PcmTrack;
+	envelope: OnsetEnvelope;
+	/** RMS level of the whole clip in dBFS; −Infinity for digital silence. */
+	levelDb: number;
+}
+
+export interface PairOptions {
+	/** Pass band for the waveform refinement (GCC-PHAT weighting). */
+	band: BandWeighting;
+	/** 1 = PHAT (Knapp & Carter 1976). */
+	phatExponent: number;
+	envelopeRate: number;
+	coarseSegmentSeconds: number;
+	maxCoarseSegments: number;
+	windowSeconds: number;
+	maxWindows: number;
+	/** Largest clock difference searched for, in ppm. */
+	maxDriftPpm: number;
+	drift: DriftFitOptions;
+	/** Clips quieter than this (dBFS RMS) are treated as muted. */
+	silenceDb: number;
+}
+
+export const defaultPairOptions: PairOptions = {
+	band: { lowHz: 300, highHz: 3400 },
+	phatExponent: 1,
+	envelopeRate: 250,
+	coarseSegmentSeconds: 60,
+	maxCoarseSegments: 8,
+	windowSeconds: 2,
+	maxWindows: 48,
+	maxDriftPpm: 200,
+	drift: defaultDriftFitOptions,
+	silenceDb: -90
+};
+
+/** One refinement window: at B time `timeSeconds`, A is `lagSeconds` ahead (timeA − timeB). */
+export interface WindowMeasurement {
+	timeSeconds: number;
+	lagSeconds: number;
+	/** PHAT peak height relative to a perfect match (0..1): the fraction of phase that agrees. */
+	coherence: number;
+	peakToSidelobe: number;
+	inlier: boolean;
+}
+
+export interface CoarseMatch {
+	lagSeconds: number;
+	peakToSidelobe: number;
+	/** Coarse segments whose best peaks agree with the chosen lag, of those tried. */
+	supportingSegments: number;
+	segments: number;
+}
+
+export interface PairEstimate extends PairRelation {
+	matched: boolean;
+	/** 0..1; 0.5 is the matched/unmatched line. */
+	confidence: number;
+	driftMeasured: boolean;
+	/** B time at the middle of the measured overlap and the offset there: the best known point. */
+	referenceTimeSeconds: number;
+	offsetAtReferenceSeconds: number;
+	offsetStdSeconds: number;
+	driftStdPpm: number;
+	overlapSeconds: number;
+	windows: WindowMeasurement[];
+	coarse: CoarseMatch | null;
+	notes: string[];
+}
+
+export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
+	let squares = 0;
+	for (let i = 0; i < pcm.samples.length; i++) squares += pcm.samples[i] * pcm.samples[i];
+	const rms = Math.sqrt(squares / Math.max(pcm.samples.length, 1));
+	return {
+		pcm,
+		envelope: onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, {
+			rate: options.envelopeRate,
+			highPassHz: options.band.lowHz
+		}),
+		levelDb: rms > 0 ? 20 * Math.log10(rms) : Number.NEGATIVE_INFINITY
+	};
+}
+
+function trackEnd(track: PcmTrack): number {
+	return track.startSeconds + track.samples.length / track.sampleRate;
+}
+
+interface CoarseCandidate {
+	segmentCenterSeconds: number;
+	lagSeconds: number;
+	peakToSidelobe: number;
+}
+
+/**
+ * Coarse search over every lag at the envelope rate. Segments of the shorter clip are each
+ * correlated against the whole longer one (so drift over long clips cannot smear the peak),
+ * then the lag most segments agree on wins.
+ */
+function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions): { match: CoarseMatch; support: CoarseCandidate[] } | null {
+	const swap = b.envelope.values.length > a.envelope.values.length;
+	const long = swap ? b.envelope : a.envelope;
+	const short = swap ? a.envelope : b.envelope;
+	const rate = long.rate;
+	const segmentLength = Math.min(short.values.length, Math.round(options.coarseSegmentSeconds * rate));
+	if (segmentLength < rate * 2 || long.values.length < rate * 2) return null;
+	const segmentCount = Math.min(options.maxCoarseSegments, Math.max(1, Math.ceil(short.values.length / segmentLength)));
+	const size = nextPowerOfTwo(long.values.length + segmentLength - 1);
+	const longSpectrum = realSpectrum(long.values, size);
+	const envelopeBand: BandWeighting = { lowHz: 0.5, highHz: rate * 0.35 };
+	const perSegment: CoarseCandidate[][] = [];
+	for (let s = 0; s < segmentCount; s++) {
+		const start = segmentCount === 1 ? 0 : Math.round((s * (short.values.length - segmentLength)) / (segmentCount - 1));
+		const correlation = gccPhatFromSpectra(longSpectrum, realSpectrum(short.values, size, start, segmentLength), size, {
+			sampleRate: rate,
+			band: envelopeBand,
+			phatExponent: 1
+		});
+		const minLag = -(segmentLength - 1);
+		const maxLag = long.values.length - 1;
+		const peaks = topPeaks(correlation, minLag, maxLag, 3, Math.round(0.05 * rate));
+		const centerSeconds = short.startSeconds + (start + segmentLength / 2) / rate;
+		perSegment.push(
+			peaks.map((peak) => {
+				// Lag k: short[start + n] sits at long[n + k]; express it as timeLong − timeShort.
+				const longMinusShort = (peak.lag - start) / rate + long.startSeconds - short.startSeconds;
+				const lagSeconds = swap ? -longMinusShort : longMinusShort;
+				const bCenter = swap ? centerSeconds + longMinusShort : centerSeconds;
+				return {
+					segmentCenterSeconds: bCenter,
+					lagSeconds,
+					peakToSidelobe: peakToSidelobeRatio(correlation, minLag, maxLag, peak, 3)
+				};
+			})
+		);
+	}
+	const maxSlope = options.maxDriftPpm * 1e-6;
+	let best: { candidate: CoarseCandidate; score: number; support: CoarseCandidate[] } | null = null;
+	for (const candidates of perSegment) {
+		for (const candidate of candidates) {
+			let score = 0;
+			const support: CoarseCandidate[] = [];
+			for (const others of perSegment) {
+				let bestHere: CoarseCandidate | null = null;
+				for (const other of others) {
+					const tolerance = 3 / rate + maxSlope * Math.abs(other.segmentCenterSeconds - candidate.segmentCenterSeconds);
+					if (Math.abs(other.lagSeconds - candidate.lagSeconds) <= tolerance && (!bestHere || other.peakToSidelobe > bestHere.peakToSidelobe)) {
+						bestHere = other;
+					}
+				}
+				if (bestHere) {
+					score += bestHere.peakToSidelobe;
+					support.push(bestHere);
+				}
+			}
+			if (!best || score > best.score) best = { candidate, score, support };
+		}
+	}
+	if (!best) return null;
+	return {
+		match: {
+			lagSeconds: best.candidate.lagSeconds,
+			peakToSidelobe: best.candidate.peakToSidelobe,
+			supportingSegments: best.support.length,
+			segments: segmentCount
+		},
+		support: best.support
+	};
+}
+
+/** Predicted lag along B's timeline from the agreeing coarse segments, with its uncertainty. */
+function lagPredictor(support: CoarseCandidate[], envelopeRate: number, maxDriftPpm: number) {
+	const points = [...support].sort((x, y) => x.segmentCenterSeconds - y.segmentCenterSeconds);
+	let slope = 0;
+	if (points.length >= 2) {
+		const meanX = points.reduce((s, p) => s + p.segmentCenterSeconds, 0) / points.length;
+		const meanY = points.reduce((s, p) => s + p.lagSeconds, 0) / points.length;
+		let sxx = 0;
+		let sxy = 0;
+		for (const p of points) {
+			sxx += (p.segmentCenterSeconds - meanX) ** 2;
+			sxy += (p.segmentCenterSeconds - meanX) * (p.lagSeconds - meanY);
+		}
+		if (sxx > 0 && Math.abs(sxy / sxx) <= maxDriftPpm * 1e-6) slope = sxy / sxx;
+	}
+	const anchor = points.reduce((best, p) => (p.peakToSidelobe > best.peakToSidelobe ? p : best), points[0]);
+	const slopeUncertainty = points.length >= 2 ? 40e-6 : maxDriftPpm * 1e-6;
+	return (time: number) => {
+		const nearest = points.reduce((d, p) => Math.min(d, Math.abs(p.segmentCenterSeconds - time)), Number.POSITIVE_INFINITY);
+		return {
+			lagSeconds: anchor.lagSeconds + slope * (time - anchor.segmentCenterSeconds),
+			marginSeconds: Math.min(0.5, 4 / envelopeRate + 2e-3 + slopeUncertainty * nearest)
+		};
+	};
+}
+
+/** Waveform GCC-PHAT in one window of B against the stretch of A where it is predicted to be. */
+function measureWindow(
+	a: PcmTrack,
+	b: PcmTrack,
+	centerSeconds: number,
+	predicted: { lagSeconds: number; marginSeconds: number },
+	options: PairOptions
+): Omit<WindowMeasurement, 'inlier'> | null {
+	const rate = b.sampleRate;
+	const windowLength = Math.round(options.windowSeconds * rate);
+	const marginSamples = Math.ceil(predicted.marginSeconds * rate);
+	const bStart = Math.round((centerSeconds - options.windowSeconds / 2 - b.startSeconds) * rate);
+	const aStart = Math.round((centerSeconds - options.windowSeconds / 2 + predicted.lagSeconds - a.startSeconds) * rate) - marginSamples;
+	const aLength = windowLength + 2 * marginSamples;
+	if (bStart < 0 || bStart + windowLength > b.samples.length || aStart < 0 || aStart + aLength > a.samples.length) return null;
+	const correlation = gccPhat(a.samples.subarray(aStart, aStart + aLength), b.samples.subarray(bStart, bStart + windowLength), {
+		sampleRate: rate,
+		band: options.band,
+		phatExponent: options.phatExponent
+	});
+	const [peak] = topPeaks(correlation, 0, 2 * marginSamples, 1, 1);
+	if (!peak) return null;
+	const lagSamples = refinePeakLag(correlation, peak);
+	return {
+		timeSeconds: b.startSeconds + (bStart + windowLength / 2) / rate,
+		lagSeconds: (aStart + lagSamples - bStart) / rate + a.startSeconds - b.startSeconds,
+		coherence: peak.value / correlation.peakScale,
+		peakToSidelobe: peakToSidelobeRatio(correlation, 0, 2 * marginSamples, peak, Math.max(2, Math.round(rate * 1e-3)))
+	};
+}
+
+function unmatched(note: string, coarse: CoarseMatch | null = null): PairEstimate {
+	return {
+		matched: false,
+		confidence: 0,
+		offsetSeconds: Number.NaN,
+		driftPpm: 0,
+		driftMeasured: false,
+		referenceTimeSeconds: Number.NaN,
+		offsetAtReferenceSeconds: Number.NaN,
+		offsetStdSeconds: Number.POSITIVE_INFINITY,
+		driftStdPpm: Number.POSITIVE_INFINITY,
+		overlapSeconds: 0,
+		windows: [],
+		coarse,
+		notes: [note]
+	};
+}
+
+/**
+ * Where clip B sits relative to clip A: timeA = offsetSeconds + timeB × (1 + driftPpm·1e-6).
+ * Pure computation over PCM; safe to run in a worker thread.
+ */
+export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions = defaultPairOptions): PairEstimate {
+	if (a.pcm.sampleRate !== b.pcm.sampleRate) throw new RangeError('both clips must be decoded at one sample rate');
+	if (a.levelDb < options.silenceDb || b.levelDb < options.silenceDb) return unmatched('no sound: the microphone looks muted');
+	const coarse = coarseSearch(a, b, options);
+	if (!coarse) return unmatched('too short to compare');
+	const predict = lagPredictor(coarse.support, a.envelope.rate, options.maxDriftPpm);
+
+	const center = predict(b.pcm.startSeconds + b.pcm.samples.length / b.pcm.sampleRate / 2).lagSeconds;
+	const overlapStart = Math.max(b.pcm.startSeconds, a.pcm.startSeconds - center);
+	const overlapEnd = Math.min(trackEnd(b.pcm), trackEnd(a.pcm) - center);
+	const overlapSeconds = Math.max(0, overlapEnd - overlapStart);
+	const usableStart = overlapStart + options.windowSeconds / 2 + 0.05;
+	const usableEnd = overlapEnd - options.windowSeconds / 2 - 0.05;
+	const windowCount = Math.min(options.maxWindows, Math.floor((usableEnd - usableStart) / options.windowSeconds) + 1);
+	if (windowCount < 1) return unmatched('the clips barely overlap', coarse.match);
+
+	const measured: Omit<WindowMeasurement, 'inlier'>[] = [];
+	for (let i = 0; i < windowCount; i++) {
+		const time = windowCount === 1 ? (usableStart + usableEnd) / 2 : usableStart + ((usableEnd - usableStart) * i) / (windowCount - 1);
+		const window = measureWindow(a.pcm, b.pcm, time, predict(time), options);
+		if (window) measured.push(window);
+	}
+	const fit = fitDrift(
+		measured.map((w) => ({ x: w.timeSeconds, y: w.lagSeconds })),
+		options.drift
+	);
+	const windows = measured.map((w, i) => ({ ...w, inlier: fit.inliers[i] }));
+	const inlierFraction = windows.length ? fit.inlierCount / windows.length : 0;
+	const inlierCoherence = windows.filter((w) => w.inlier).map((w) => w.coherence);
+	const meanCoherence = inlierCoherence.length ? inlierCoherence.reduce((s, c) => s + c, 0) / inlierCoherence.length : 0;
+	const confidence = pairConfidence(inlierFraction, fit.inlierCount, meanCoherence);
+	const notes: string[] = [];
+	if (!fit.driftMeasured && fit.inlierCount > 0) notes.push('overlap too short to measure drift: drift set to 0');
+	return {
+		matched: confidence >= 0.5,
+		confidence,
+		offsetSeconds: fit.offsetSeconds,
+		driftPpm: fit.slope * 1e6,
+		driftMeasured: fit.driftMeasured,
+		referenceTimeSeconds: fit.centerX,
+		offsetAtReferenceSeconds: fit.offsetAtCenterSeconds,
+		offsetStdSeconds: fit.offsetStdSeconds,
+		driftStdPpm: fit.slopeStd * 1e6,
+		overlapSeconds,
+		windows,
+		coarse: coarse.match,
+		notes
+	};
+}
+
+/**
+ * Calibrated on the fixtures: a real match has most windows on one line; unrelated sound
+ * puts at most a few windows on a line by chance.
+ */
+export function pairConfidence(inlierFraction: number, inlierCount: number, meanCoherence: number): number {
+	if (inlierCount < 2) return Math.min(0.2, inlierFraction);
+	const countFactor = Math.min(1, inlierCount / 4);
+	const score = inlierFraction * countFactor;
+	return Math.max(0, Math.min(1, score + 0.1 * Math.min(1, meanCoherence * 2)));
+}
