@@ -1,0 +1,234 @@
+import { availableParallelism } from 'node:os';
+import { Piscina } from 'piscina';
+import { sessionTimeOf, frameAt, type FrameTiming } from '../../sync/frames';
+import { defaultPairOptions, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
+import { solveSession, type ClipLink, type SessionSolution } from '../../sync/solve';
+import type { Rational } from '../../sync/rational';
+import { runAlignTask, type AlignTask } from './align-worker';
+import { decodeAudio } from './decode';
+import { MediaReadError, probeMedia, type MediaProbe } from './probe';
+
+export interface AlignOptions {
+	/** Index (in the given order) of the reference clip; default: the clip sharing sound with the most others. */
+	referenceIndex?: number;
+	/** Rate the audio is decoded at once; every analysis rate is derived from it. */
+	analysisSampleRate?: number;
+	/** Parallel decodes and worker threads; default: the machine's cores. */
+	concurrency?: number;
+	/** Run the transforms on this thread instead of a worker pool (tests, tiny inputs). */
+	inline?: boolean;
+	pairOptions?: Partial<PairOptions>;
+	onProgress?: (progress: AlignProgress) => void;
+	signal?: AbortSignal;
+}
+
+export interface AlignProgress {
+	stage: 'probe' | 'decode' | 'pairs' | 'solve';
+	done: number;
+	total: number;
+}
+
+export interface AlignedClip {
+	path: string;
+	probe: MediaProbe;
+	matched: boolean;
+	offsetSeconds: number | null;
+	driftPpm: number | null;
+	driftMeasured: boolean;
+	confidence: number;
+	frameRate: Rational | null;
+	variableFrameRate: boolean;
+	durationSeconds: number;
+	/** Clip-time span holding media: [start, end) on the clip's own timeline. */
+	mediaSpan: { start: number; end: number };
+	frames: FrameTiming | null;
+	notes: string[];
+}
+
+export interface PairResult {
+	a: number;
+	b: number;
+	estimate: PairEstimate;
+}
+
+export interface AlignReport {
+	referenceIndex: number;
+	clips: AlignedClip[];
+	pairs: PairResult[];
+	solution: SessionSolution;
+	/** Session-time span where every matched clip has media, or null when they never all overlap. */
+	commonSpan: { start: number; end: number } | null;
+}
+
+/** Every input that could not be read, one reason each. */
+export class MediaReadErrors extends Error {
+	constructor(readonly errors: MediaReadError[]) {
+		super(errors.map((e) => e.message).join('\n'));
+		this.name = 'MediaReadErrors';
+	}
+}
+
+export function frameTimingOf(probe: MediaProbe): FrameTiming | null {
+	const video = probe.video;
+	if (!video) return null;
+	if (video.variableFrameRate && video.frameTimesSeconds) return { kind: 'variable', frameTimesSeconds: video.frameTimesSeconds };
+	const frameRate = video.frameRate ?? video.averageFrameRate;
+	if (!frameRate) return null;
+	const duration = video.durationSeconds ?? probe.durationSeconds;
+	const frameCount = video.frameCount ?? Math.round((duration * frameRate.num) / frameRate.den);
+	return { kind: 'constant', frameRate, firstFrameSeconds: video.startSeconds, frameCount };
+}
+
+async function mapLimited<T, R>(items: T[], limit: number, work: (item: T, index: number) => Promise<R>): Promise<PromiseSettledResult<R>[]> {
+	const results: PromiseSettledResult<R>[] = new Array(items.length);
+	let next = 0;
+	async function lane() {
+		while (next < items.length) {
+			const index = next++;
+			try {
+				results[index] = { status: 'fulfilled', value: await work(items[index], index) };
+			} catch (reason) {
+				results[index] = { status: 'rejected', reason };
+			}
+		}
+	}
+	await Promise.all(Array.from({ length: Math.min(limit, items.length) }, lane));
+	return results;
+}
+
+function workerFile(): string {
+	const extension = import.meta.url.endsWith('.ts') ? '.ts' : '.js';
+	return new URL(`./align-worker${extension}`, import.meta.url).href;
+}
+
+/**
+ * Aligns clips by their sound: probe, decode each clip once (in parallel), estimate every pair in
+ * worker threads, then solve all offsets and drifts together.
+ */
+export async function alignFiles(paths: string[], options: AlignOptions = {}): Promise<AlignReport> {
+	const concurrency = Math.max(1, options.concurrency ?? availableParallelism());
+	const pairOptions: PairOptions = { ...defaultPairOptions, ...options.pairOptions };
+	const sampleRate = options.analysisSampleRate ?? 8000;
+	const progress = options.onProgress ?? (() => {});
+
+	const probed = await Promise.allSettled(paths.map((path) => probeMedia(path)));
+	const failures = probed.flatMap((p, i) =>
+		p.status === 'rejected' ? [p.reason instanceof MediaReadError ? p.reason : new MediaReadError(paths[i], String(p.reason))] : []
+	);
+	if (failures.length) throw new MediaReadErrors(failures);
+	const probes = probed.map((p) => (p as PromiseFulfilledResult<MediaProbe>).value);
+	progress({ stage: 'probe', done: probes.length, total: probes.length });
+
+	const pool = options.inline ? null : new Piscina<AlignTask, AnalysisTrack | PairEstimate>({ filename: workerFile(), maxThreads: concurrency, minThreads: 1 });
+	const runTask = async (task: AlignTask) => (pool ? pool.run(task) : runAlignTask(task));
+	try {
+		// One promise per clip, settled when its audio is decoded and prepared, so pairs start as
+		// soon as both of their clips are ready while other clips are still decoding.
+		const ready = probes.map(() => {
+			let settle: (track: Promise<AnalysisTrack | null>) => void = () => {};
+			const promise = new Promise<AnalysisTrack | null>((resolve) => (settle = resolve));
+			promise.catch(() => {}); // a failed decode is reported from `decodes` below
+			return { promise, settle };
+		});
+		let decoded = 0;
+		const decodes = mapLimited(probes, concurrency, async (probe, index) => {
+			if (!probe.audio) {
+				ready[index].settle(Promise.resolve(null));
+				return;
+			}
+			const expectedSeconds = probe.durationSeconds + Math.max(0, probe.audio.startSeconds);
+			const pcm = decodeAudio(probe.path, { sampleRate, expectedSeconds, signal: options.signal });
+			ready[index].settle(pcm.then((track) => runTask({ kind: 'prepare', pcm: track, options: pairOptions }) as Promise<AnalysisTrack>));
+			await pcm;
+			progress({ stage: 'decode', done: ++decoded, total: probes.length });
+		});
+
+		const pairIndices: [number, number][] = [];
+		for (let a = 0; a < paths.length; a++) for (let b = a + 1; b < paths.length; b++) pairIndices.push([a, b]);
+		let pairsDone = 0;
+		const pairsSettled = Promise.allSettled(
+			pairIndices.map(async ([a, b]) => {
+				const [trackA, trackB] = await Promise.all([ready[a].promise, ready[b].promise]);
+				const estimate =
+					trackA && trackB
+						? ((await runTask({ kind: 'pair', a: trackA, b: trackB, options: pairOptions })) as PairEstimate)
+						: null;
+				progress({ stage: 'pairs', done: ++pairsDone, total: pairIndices.length });
+				return estimate ? { a, b, estimate } : null;
+			})
+		);
+		const decodeResults = await decodes;
+		const decodeFailures = decodeResults.flatMap((r) =>
+			r.status === 'rejected' ? [r.reason instanceof MediaReadError ? r.reason : new MediaReadError('?', String(r.reason))] : []
+		);
+		if (decodeFailures.length) {
+			await pairsSettled;
+			throw new MediaReadErrors(decodeFailures);
+		}
+		const pairs = (await pairsSettled).map((r) => {
+			if (r.status === 'rejected') throw r.reason;
+			return r.value;
+		});
+		const pairResults = pairs.filter((p): p is PairResult => p !== null);
+		const solution = solveSession(paths.length, pairResults as ClipLink[], { referenceIndex: options.referenceIndex });
+		progress({ stage: 'solve', done: 1, total: 1 });
+
+		const clips: AlignedClip[] = probes.map((probe, i) => {
+			const solved = solution.clips[i];
+			const notes: string[] = [];
+			if (!probe.audio) notes.push('no audio stream: cannot be aligned by sound');
+			else if (!solved.matched) notes.push('no sound in common with the reference or the clips placed through it');
+			else if (!solved.driftMeasured) notes.push('drift not measured (overlap too short): set to 0');
+			return {
+				path: probe.path,
+				probe,
+				matched: solved.matched,
+				offsetSeconds: solved.offsetSeconds,
+				driftPpm: solved.driftPpm,
+				driftMeasured: solved.driftMeasured,
+				confidence: solved.confidence,
+				frameRate: probe.video?.frameRate ?? probe.video?.averageFrameRate ?? null,
+				variableFrameRate: probe.video?.variableFrameRate ?? false,
+				durationSeconds: probe.durationSeconds,
+				mediaSpan: { start: probe.startSeconds, end: probe.startSeconds + probe.durationSeconds },
+				frames: frameTimingOf(probe),
+				notes
+			};
+		});
+		return { referenceIndex: solution.referenceIndex, clips, pairs: pairResults, solution, commonSpan: commonSpanOf(clips) };
+	} finally {
+		await pool?.destroy();
+	}
+}
+
+export function commonSpanOf(clips: AlignedClip[]): { start: number; end: number } | null {
+	let start = Number.NEGATIVE_INFINITY;
+	let end = Number.POSITIVE_INFINITY;
+	for (const clip of clips) {
+		if (!clip.matched || clip.offsetSeconds === null || clip.driftPpm === null) continue;
+		const placement = { offsetSeconds: clip.offsetSeconds, driftPpm: clip.driftPpm };
+		start = Math.max(start, sessionTimeOf(clip.mediaSpan.start, placement));
+		end = Math.min(end, sessionTimeOf(clip.mediaSpan.end, placement));
+	}
+	return Number.isFinite(start) && Number.isFinite(end) && end > start ? { start, end } : null;
+}
+
+/** Each matched clip's nearest frame at session instants every `everySeconds` across the common span. */
+export function frameRows(report: AlignReport, everySeconds: number): { t: number; frames: (number | null)[] }[] {
+	const span = report.commonSpan;
+	if (!span || !(everySeconds > 0)) return [];
+	const rows: { t: number; frames: (number | null)[] }[] = [];
+	for (let i = 0; ; i++) {
+		const t = span.start + i * everySeconds;
+		if (t > span.end + 1e-9) break;
+		rows.push({
+			t,
+			frames: report.clips.map((clip) =>
+				clip.matched && clip.frames && clip.offsetSeconds !== null && clip.driftPpm !== null
+					? frameAt(t, { placement: { offsetSeconds: clip.offsetSeconds, driftPpm: clip.driftPpm }, frames: clip.frames })
+					: null
+			)
+		});
+	}
+	return rows;
+}

@@ -1,0 +1,86 @@
+import { spawn } from 'node:child_process';
+import type { PcmTrack } from '../../sync/types';
+import { mediaBinaries } from './binaries';
+import { MediaReadError } from './probe';
+
+export interface DecodeOptions {
+	sampleRate: number;
+	/** Expected length, to size the buffer once; it grows if the file holds more. */
+	expectedSeconds?: number;
+	signal?: AbortSignal;
+}
+
+/** ffmpeg arguments that decode the first audio stream to mono float at `sampleRate`, placed on the container's timeline. */
+export function decodeArguments(path: string, sampleRate: number): string[] {
+	return [
+		'-nostdin', '-v', 'error',
+		// Keep the container's timestamps (edit lists applied by the demuxer) and pad or trim so that
+		// output sample k is at clip time k / sampleRate: audio that starts late gets leading silence.
+		'-copyts', '-i', path,
+		'-map', '0:a:0', '-vn', '-sn', '-dn',
+		'-af', `aresample=${sampleRate}:async=1:first_pts=0`,
+		'-ac', '1', '-ar', String(sampleRate),
+		'-f', 'f32le', 'pipe:1'
+	];
+}
+
+/**
+ * Decodes a clip's audio to mono float PCM streamed from ffmpeg's stdout, straight into shared
+ * memory so worker threads can read it without a copy. Sample k is at clip time k / sampleRate.
+ */
+export function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTrack> {
+	const { sampleRate } = options;
+	let capacity = Math.max(1024, Math.ceil(((options.expectedSeconds ?? 60) + 2) * sampleRate));
+	let samples = new Float32Array(new SharedArrayBuffer(capacity * 4));
+	let length = 0;
+	const carry = Buffer.alloc(4);
+	let carried = 0;
+	const child = spawn(mediaBinaries().ffmpegPath, decodeArguments(path, sampleRate), {
+		stdio: ['ignore', 'pipe', 'pipe'],
+		signal: options.signal
+	});
+	const stderr: string[] = [];
+	child.stderr.setEncoding('utf8');
+	child.stderr.on('data', (text: string) => {
+		stderr.push(text);
+		if (stderr.length > 50) stderr.shift();
+	});
+	function push(value: number) {
+		if (length === capacity) {
+			capacity = Math.ceil(capacity * 1.5);
+			const grown = new Float32Array(new SharedArrayBuffer(capacity * 4));
+			grown.set(samples);
+			samples = grown;
+		}
+		samples[length++] = value;
+	}
+	child.stdout.on('data', (chunk: Buffer) => {
+		let offset = 0;
+		if (carried) {
+			while (carried < 4 && offset < chunk.length) carry[carried++] = chunk[offset++];
+			if (carried < 4) return;
+			push(carry.readFloatLE(0));
+			carried = 0;
+		}
+		const whole = Math.floor((chunk.length - offset) / 4);
+		if (length + whole > capacity) {
+			capacity = Math.ceil((length + whole) * 1.25);
+			const grown = new Float32Array(new SharedArrayBuffer(capacity * 4));
+			grown.set(samples.subarray(0, length));
+			samples = grown;
+		}
+		for (let i = 0; i < whole; i++, offset += 4) samples[length++] = chunk.readFloatLE(offset);
+		while (offset < chunk.length) carry[carried++] = chunk[offset++];
+	});
+	return new Promise((resolve, reject) => {
+		child.on('error', (error) => reject(new MediaReadError(path, `ffmpeg did not run: ${error.message}`)));
+		child.on('close', (code) => {
+			if (code !== 0) {
+				const last = stderr.join('').trim().split('\n').pop();
+				reject(new MediaReadError(path, last || `ffmpeg could not decode its audio (exit ${code})`));
+				return;
+			}
+			resolve({ samples: samples.subarray(0, length), sampleRate, startSeconds: 0 });
+		});
+	});
+}
