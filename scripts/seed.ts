@@ -18,14 +18,23 @@ export const DEMO_PEOPLE: { email: string; displayName: string; role: RoleName; 
 	{ email: 'pia.processor@lockstep.test', displayName: 'Pia Novak', role: 'processor', password: 'demo-processor-2026' }
 ];
 
+export const OUTSIDER = {
+	email: 'tove.tidewater@lockstep.test',
+	displayName: 'Tove Brandt',
+	role: 'editor' as const,
+	password: 'demo-tidewater-2026'
+};
+
 const studio = upsertWorkspace('fieldglass', 'Fieldglass Capture Studio');
 const other = upsertWorkspace('tidewater', 'Tidewater Survey Unit');
 
 for (const person of DEMO_PEOPLE) {
 	await upsertPerson({ ...person, workspaceId: studio });
 }
-// One person also works for a second workspace, with another role there.
+// One person also works for a second workspace, with another role there,
+// and one belongs to that other workspace only.
 await upsertPerson({ ...DEMO_PEOPLE[1], role: 'reviewer', workspaceId: other });
+await upsertPerson({ ...OUTSIDER, workspaceId: other });
 
 if (!db.select().from(captureSessions).where(eq(captureSessions.workspaceId, other)).get()) {
 	db.insert(captureSessions)
@@ -35,4 +44,5 @@ if (!db.select().from(captureSessions).where(eq(captureSessions.workspaceId, oth
 
 console.log('\nDemo people (workspace "Fieldglass Capture Studio"):');
 for (const p of DEMO_PEOPLE) console.log(`  ${p.role.padEnd(10)} ${p.email.padEnd(30)} password: ${p.password}`);
-console.log('  (Eli is also a reviewer in "Tidewater Survey Unit".)\n');
+console.log('  (Eli is also a reviewer in "Tidewater Survey Unit".)');
+console.log(`\nWorkspace "Tidewater Survey Unit" only:\n  editor     ${OUTSIDER.email.padEnd(30)} password: ${OUTSIDER.password}\n`);

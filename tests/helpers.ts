@@ -6,7 +6,9 @@ export const PEOPLE = {
 	admin: { email: 'ada.admin@lockstep.test', password: 'demo-admin-2026', name: 'Ada Okafor' },
 	editor: { email: 'eli.editor@lockstep.test', password: 'demo-editor-2026', name: 'Eli Marchetti' },
 	reviewer: { email: 'rae.reviewer@lockstep.test', password: 'demo-reviewer-2026', name: 'Rae Lindqvist' },
-	processor: { email: 'pia.processor@lockstep.test', password: 'demo-processor-2026', name: 'Pia Novak' }
+	processor: { email: 'pia.processor@lockstep.test', password: 'demo-processor-2026', name: 'Pia Novak' },
+	/** An editor of the other workspace only ("Tidewater Survey Unit"). */
+	outsider: { email: 'tove.tidewater@lockstep.test', password: 'demo-tidewater-2026', name: 'Tove Brandt' }
 } as const;
 export type DemoRole = keyof typeof PEOPLE;
 

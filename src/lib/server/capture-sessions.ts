@@ -68,3 +68,29 @@ export function sessionWithClips(scope: WorkspaceScope, sessionId: string) {
 	return { session, clips: clipsOfSession(scope, sessionId) };
 }
 
+
+export interface SessionEdit {
+	name?: string;
+	site?: string;
+	captureDate?: string | null;
+	rigNotes?: string;
+}
+
+export class VersionConflict extends Error {
+	constructor(readonly currentVersion: number) {
+		super(`This capture session was changed by someone else (now version ${currentVersion}); reload to see their change.`);
+	}
+}
+
+/** Edits the descriptive fields; `baseVersion` must be the version the editor saw. */
+export function editSession(scope: WorkspaceScope, sessionId: string, baseVersion: number, edit: SessionEdit) {
+	const session = scope.session(sessionId);
+	if (session.version !== baseVersion) throw new VersionConflict(session.version);
+	const result = db
+		.update(captureSessions)
+		.set({ ...edit, version: session.version + 1, updatedAt: new Date() })
+		.where(scope.where(captureSessions, eq(captureSessions.id, sessionId), eq(captureSessions.version, baseVersion)))
+		.run();
+	if (result.changes === 0) throw new VersionConflict(scope.session(sessionId).version);
+	return scope.session(sessionId);
+}

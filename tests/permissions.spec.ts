@@ -1,0 +1,130 @@
+import { expect, test, type APIRequestContext, type Playwright } from '@playwright/test';
+import { readdirSync, readFileSync, statSync } from 'node:fs';
+import { join } from 'node:path';
+import { PEOPLE } from './helpers';
+import { ROUTE_RULES, type Outcome, type Persona } from './route-rules';
+
+/** Every route on disk with the methods and form actions it answers. */
+function discoverRoutes(dir = 'src/routes', id = ''): { route: string; methods: string[] }[] {
+	const found: { route: string; methods: string[] }[] = [];
+	const entries = readdirSync(dir);
+	const methods: string[] = [];
+	const route = id || '/';
+	if (entries.includes('+page.svelte')) methods.push('GET');
+	if (entries.includes('+page.server.ts')) {
+		const source = readFileSync(join(dir, '+page.server.ts'), 'utf8');
+		const actions = source.match(/export const actions = \{([\s\S]*?)\n\} satisfies Actions/)?.[1] ?? '';
+		for (const m of actions.matchAll(/^\t(\w+): /gm)) methods.push(m[1] === 'default' ? 'POST' : `POST ?/${m[1]}`);
+	}
+	if (entries.includes('+server.ts')) {
+		const source = readFileSync(join(dir, '+server.ts'), 'utf8');
+		for (const m of source.matchAll(/export const (GET|POST|PUT|PATCH|DELETE|HEAD|OPTIONS)\b/g)) methods.push(m[1]);
+	}
+	if (methods.length) found.push({ route, methods });
+	for (const entry of entries) {
+		const full = join(dir, entry);
+		if (!statSync(full).isDirectory()) continue;
+		const segment = /^\(.*\)$/.test(entry) ? '' : `/${entry}`;
+		found.push(...discoverRoutes(full, id + segment));
+	}
+	return found;
+}
+
+test('every route and method on disk has a permission rule', () => {
+	const missing: string[] = [];
+	for (const { route, methods } of discoverRoutes()) {
+		for (const method of methods) {
+			if (!ROUTE_RULES.some((r) => r.route === route && r.method === method)) missing.push(`${method} ${route}`);
+		}
+	}
+	expect(missing, 'add these to tests/route-rules.ts').toEqual([]);
+});
+
+test.describe('route × role', () => {
+	const personas: Persona[] = ['anon', 'admin', 'editor', 'reviewer', 'processor', 'outsider'];
+	const contexts = new Map<Persona, APIRequestContext>();
+	let sessionId = '';
+
+	async function contextFor(playwright: Playwright, baseURL: string | undefined, persona: Persona) {
+		const context = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
+		if (persona !== 'anon') {
+			const person = PEOPLE[persona];
+			const response = await context.post('/login', {
+				headers: { accept: 'text/html' },
+				form: { email: person.email, password: person.password },
+				maxRedirects: 0
+			});
+			expect(response.status(), `sign-in of ${persona}`).toBe(303);
+		}
+		return context;
+	}
+
+	test.beforeAll(async ({ playwright, baseURL }) => {
+		for (const persona of personas) contexts.set(persona, await contextFor(playwright, baseURL, persona));
+		const created = await contexts.get('editor')!.post('/api/sessions', {
+			data: { name: 'Permission probe', site: 'Test bench' }
+		});
+		expect(created.status()).toBe(201);
+		sessionId = (await created.json()).session.id;
+	});
+
+	test.afterAll(async () => {
+		for (const context of contexts.values()) await context.dispose();
+	});
+
+	for (const rule of ROUTE_RULES) {
+		test(`${rule.method} ${rule.route}`, async ({ playwright, baseURL }) => {
+			const failures: string[] = [];
+			for (const persona of personas) {
+				const context = rule.endsSession ? await contextFor(playwright, baseURL, persona) : contexts.get(persona)!;
+				const path = rule.path.replace('{session}', sessionId);
+				const method = rule.method.split(' ')[0];
+				const response = await context.fetch(path, {
+					method,
+					maxRedirects: 0,
+					// Form actions answer JSON to scripts and HTML (with real statuses) to browsers.
+					headers: { accept: rule.method.includes('?/') ? 'application/json' : 'text/html' },
+					...(rule.body === 'json' ? { data: {} } : rule.body === 'form' ? { form: {} } : {})
+				});
+				const actual = await classify(response.status(), response.headers(), await response.text(), path);
+				if (!matches(rule.expect[persona], actual)) {
+					failures.push(`${persona}: expected ${rule.expect[persona]}, got ${actual} (${response.status()})`);
+				}
+				if (rule.endsSession) await context.dispose();
+			}
+			expect(failures).toEqual([]);
+		});
+	}
+});
+
+type Observed = 'ok' | 'bad_input' | 'login' | 'deny' | 'hidden' | 'other';
+
+async function classify(status: number, headers: Record<string, string>, body: string, path: string): Promise<Observed> {
+	const isApi = path.startsWith('/api/');
+	// Form actions answer JSON describing the result, redirect or failure.
+	if (headers['content-type']?.includes('application/json') && !isApi) {
+		const parsed = JSON.parse(body) as { type?: string; location?: string };
+		if (parsed.type === 'redirect') return parsed.location?.startsWith('/login') ? 'login' : 'ok';
+		if (parsed.type === 'failure') return 'bad_input';
+		if (parsed.type === 'error') return status === 403 ? 'deny' : status === 404 ? 'hidden' : 'other';
+		if (parsed.type === 'success') return 'ok';
+	}
+	if (status === 401) return 'login';
+	if (status === 303 && headers.location?.startsWith('/login')) return 'login';
+	if (status === 403) return 'deny';
+	if (status === 404) return 'hidden';
+	if ([400, 409, 422].includes(status)) return 'bad_input';
+	if (status < 400) return 'ok';
+	return 'other';
+}
+
+function matches(expected: Outcome, actual: Observed): boolean {
+	switch (expected) {
+		case 'public':
+			return actual === 'ok' || actual === 'bad_input' || actual === 'login';
+		case 'allow':
+			return actual === 'ok' || actual === 'bad_input';
+		default:
+			return actual === expected;
+	}
+}

@@ -1,0 +1,82 @@
+/*
+ * Who may reach what: one row per route of src/routes and method (or form action).
+ * tests/permissions.spec.ts discovers every route on disk and fails when one has no row
+ * here, so a new page or endpoint cannot ship without a decision about who may use it.
+ *
+ * Outcomes:  allow  — reaches the route (2xx/3xx, or 400/409/422 for an empty or bad body)
+ *            deny   — 403
+ *            login  — signed out: pages redirect to /login, the API answers 401
+ *            hidden — 404 (a row of another workspace looks like no row at all)
+ *            public — reachable by anyone, signed in or not
+ */
+
+export type Persona = 'anon' | 'admin' | 'editor' | 'reviewer' | 'processor' | 'outsider';
+export type Outcome = 'allow' | 'deny' | 'login' | 'hidden' | 'public';
+
+export interface RouteRule {
+	/** Route id as SvelteKit names it, without groups, e.g. /sessions/[id=id]. */
+	route: string;
+	/** GET, POST, PATCH, DELETE, or POST ?/name for a form action. */
+	method: string;
+	/** Sample path; `{session}` is a capture session of the demo studio. */
+	path: string;
+	body?: 'json' | 'form';
+	/** Signs the caller out: checked with a throwaway sign-in so the other rows keep theirs. */
+	endsSession?: boolean;
+	expect: Record<Persona, Outcome>;
+}
+
+const everyone: Record<Persona, Outcome> = {
+	anon: 'public',
+	admin: 'public',
+	editor: 'public',
+	reviewer: 'public',
+	processor: 'public',
+	outsider: 'public'
+};
+const signedIn: Record<Persona, Outcome> = {
+	anon: 'login',
+	admin: 'allow',
+	editor: 'allow',
+	reviewer: 'allow',
+	processor: 'allow',
+	outsider: 'allow'
+};
+const readSession: Record<Persona, Outcome> = { ...signedIn, outsider: 'hidden' };
+const editorOnly: Record<Persona, Outcome> = {
+	anon: 'login',
+	admin: 'deny',
+	editor: 'allow',
+	reviewer: 'deny',
+	processor: 'deny',
+	outsider: 'allow'
+};
+const editorOfSession: Record<Persona, Outcome> = { ...editorOnly, outsider: 'hidden' };
+const adminOnly: Record<Persona, Outcome> = {
+	anon: 'login',
+	admin: 'allow',
+	editor: 'deny',
+	reviewer: 'deny',
+	processor: 'deny',
+	outsider: 'deny'
+};
+
+export const ROUTE_RULES: RouteRule[] = [
+	{ route: '/', method: 'GET', path: '/', expect: everyone },
+	{ route: '/login', method: 'GET', path: '/login', expect: everyone },
+	{ route: '/login', method: 'POST', path: '/login', body: 'form', expect: everyone },
+	{ route: '/logout', method: 'POST', path: '/logout', body: 'form', endsSession: true, expect: everyone },
+	{ route: '/workspace', method: 'POST', path: '/workspace', body: 'form', expect: { ...signedIn, admin: 'deny', editor: 'deny', reviewer: 'deny', processor: 'deny', outsider: 'deny' } },
+	{ route: '/sessions', method: 'GET', path: '/sessions', expect: signedIn },
+	{ route: '/sessions/new', method: 'GET', path: '/sessions/new', expect: editorOnly },
+	{ route: '/sessions/new', method: 'POST', path: '/sessions/new', body: 'form', expect: editorOnly },
+	{ route: '/sessions/[id=id]', method: 'GET', path: '/sessions/{session}', expect: readSession },
+	{ route: '/sessions/[id=id]', method: 'POST ?/edit', path: '/sessions/{session}?/edit', body: 'form', expect: editorOfSession },
+	{ route: '/api/me', method: 'GET', path: '/api/me', expect: signedIn },
+	{ route: '/api/sessions', method: 'GET', path: '/api/sessions', expect: signedIn },
+	{ route: '/api/sessions', method: 'POST', path: '/api/sessions', body: 'json', expect: editorOnly },
+	{ route: '/api/sessions/[id=id]', method: 'GET', path: '/api/sessions/{session}', expect: readSession },
+	{ route: '/api/sessions/[id=id]', method: 'PATCH', path: '/api/sessions/{session}', body: 'json', expect: editorOfSession }
+];
+
+export const ADMIN_ONLY = adminOnly;
