@@ -3,6 +3,8 @@ import { sequence } from '@sveltejs/kit/hooks';
 import { identifyToken } from '$lib/server/api-tokens';
 import { lucia } from '$lib/server/auth';
 import { applyMigrations, databasePath, db } from '$lib/server/db';
+import { registerAnalysisHandlers } from '$lib/server/jobs/handlers';
+import { startJobRunner } from '$lib/server/jobs/runner';
 import { startMail } from '$lib/server/mail';
 import { describeMediaBinaries } from '$lib/server/media/binaries';
 import { WORKSPACE_COOKIE, membershipsOf } from '$lib/server/workspaces';
@@ -12,6 +14,8 @@ export const init: ServerInit = async () => {
 	console.log(`Database: ${databasePath()}`);
 	console.log(describeMediaBinaries());
 	await startMail();
+	registerAnalysisHandlers();
+	startJobRunner();
 };
 
 /** Resolves who is asking, once per request: a bearer token, or the session cookie. */

@@ -1,4 +1,6 @@
-import { expect, test, type APIRequestContext, type Playwright } from '@playwright/test';
+import { expect, test, type APIRequestContext, type PlaywrightWorkerArgs } from '@playwright/test';
+
+type Playwright = PlaywrightWorkerArgs['playwright'];
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { PEOPLE } from './helpers';

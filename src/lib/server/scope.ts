@@ -2,7 +2,7 @@ import { error } from '@sveltejs/kit';
 import { and, eq, type SQL } from 'drizzle-orm';
 import type { SQLiteColumn, SQLiteTable } from 'drizzle-orm/sqlite-core';
 import { db } from './db';
-import { captureSessions, clips } from './db/schema';
+import { analysisJobs, captureSessions, clips } from './db/schema';
 
 type WorkspaceTable = SQLiteTable & { workspaceId: SQLiteColumn };
 
@@ -28,6 +28,12 @@ export class WorkspaceScope {
 	clip(id: string) {
 		const row = db.select().from(clips).where(this.where(clips, eq(clips.id, id))).get();
 		if (!row) error(404, { code: 'not_found', message: 'No such clip in this workspace.' });
+		return row;
+	}
+
+	job(id: string) {
+		const row = db.select().from(analysisJobs).where(this.where(analysisJobs, eq(analysisJobs.id, id))).get();
+		if (!row) error(404, { code: 'not_found', message: 'No such job in this workspace.' });
 		return row;
 	}
 }
