@@ -31,10 +31,19 @@ export function formRefusal<F extends Record<string, unknown>>(err: unknown, fie
 	throw err;
 }
 
-/** A JSON route's answer to a refusal; anything else is a server error. */
-export function apiRefusal(err: unknown): never {
+/** A refusal as an HTTP error ({ error: { code, message } } in the JSON API); anything else is a server error. */
+export function refusalAsError(err: unknown): never {
 	if (err instanceof Refusal) error(err.status, { code: err.code, message: err.message });
 	throw err;
+}
+
+/** Runs a JSON route's work, answering refusals as HTTP errors. */
+export async function answer<T>(work: () => T | Promise<T>): Promise<T> {
+	try {
+		return await work();
+	} catch (err) {
+		refusalAsError(err);
+	}
 }
 
 /** The body of a JSON request, or a refusal when it is not JSON. */
