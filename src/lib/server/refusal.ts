@@ -32,7 +32,7 @@ export function formRefusal<F extends Record<string, unknown>>(err: unknown, fie
 }
 
 /** A refusal as an HTTP error ({ error: { code, message } } in the JSON API); anything else is a server error. */
-export function refusalAsError(err: unknown): never {
+export function apiRefusal(err: unknown): never {
 	if (err instanceof Refusal) error(err.status, { code: err.code, message: err.message });
 	throw err;
 }
@@ -42,7 +42,7 @@ export async function answer<T>(work: () => T | Promise<T>): Promise<T> {
 	try {
 		return await work();
 	} catch (err) {
-		refusalAsError(err);
+		apiRefusal(err);
 	}
 }
 

@@ -1,6 +1,6 @@
 import { requirePermission } from '$lib/server/guard';
 import { outboxMessage } from '$lib/server/outbox';
-import { refusalAsError } from '$lib/server/refusal';
+import { apiRefusal } from '$lib/server/refusal';
 import type { PageServerLoad } from './$types';
 
 export const load = ((event) => {
@@ -8,6 +8,6 @@ export const load = ((event) => {
 	try {
 		return { message: outboxMessage(scope, event.params.id) };
 	} catch (err) {
-		refusalAsError(err);
+		apiRefusal(err);
 	}
 }) satisfies PageServerLoad;
