@@ -88,6 +88,7 @@ function toTable(report: AlignReport, files: string[], everySeconds: number | nu
 }
 
 async function main() {
+	const startedAt = performance.now();
 	const args = parseArguments(process.argv.slice(2));
 	let referenceIndex: number | undefined;
 	if (args.reference !== null) {
@@ -98,6 +99,11 @@ async function main() {
 	try {
 		const report = await alignFiles(args.files, { referenceIndex });
 		process.stdout.write(args.json ? JSON.stringify(toJson(report, args.files, args.everySeconds)) + '\n' : toTable(report, args.files, args.everySeconds));
+		// For the benchmark: time inside this process and its peak memory (worker threads included).
+		if (process.env.LOCKSTEP_ALIGN_STATS) {
+			const stats = { alignMs: performance.now() - startedAt, maxRssKb: process.resourceUsage().maxRSS };
+			process.stderr.write(`${JSON.stringify({ alignStats: stats })}\n`);
+		}
 	} catch (error) {
 		if (error instanceof MediaReadErrors) {
 			for (const e of error.errors) process.stderr.write(`align: cannot read ${e.path}: ${e.reason}\n`);

@@ -33,11 +33,11 @@ describe('fitDrift', () => {
 	});
 
 	it('leaves drift at 0 and says so when the span is too short to measure it', () => {
-		const points = Array.from({ length: 8 }, (_, i) => ({ x: i * 2, y: 1.25 + 50e-6 * i * 2 }));
+		const points = Array.from({ length: 8 }, (_, i) => ({ x: i * 0.8, y: 1.25 + 50e-6 * i * 0.8 }));
 		const fit = fitDrift(points, defaultDriftFitOptions);
 		expect(fit.driftMeasured).toBe(false);
 		expect(fit.slope).toBe(0);
-		// Mean of the points: 1.25 + 50e-6 × 7 (computed).
-		expect(fit.offsetAtCenterSeconds).toBeCloseTo(1.25 + 50e-6 * 7, 9);
+		// Mean of the points: 1.25 + 50e-6 × 2.8 (computed).
+		expect(fit.offsetAtCenterSeconds).toBeCloseTo(1.25 + 50e-6 * 2.8, 9);
 	});
 });

@@ -39,6 +39,8 @@ export interface DriftFitOptions {
 	/** Below this span of x (seconds) or this many inliers the slope is not measured and stays 0. */
 	minSpanSeconds: number;
 	minPointsForSlope: number;
+	/** A slope known worse than this (standard error, ppm) is not reported: drift stays 0. */
+	maxSlopeStdPpm: number;
 	/** Never report a slope beyond this (|slope| × 1e6 ppm). */
 	maxDriftPpm: number;
 }
@@ -60,8 +62,9 @@ export interface DriftFit {
 
 export const defaultDriftFitOptions: DriftFitOptions = {
 	inlierToleranceSeconds: 0.5e-3,
-	minSpanSeconds: 30,
-	minPointsForSlope: 6,
+	minSpanSeconds: 8,
+	minPointsForSlope: 5,
+	maxSlopeStdPpm: 3,
 	maxDriftPpm: 300
 };
 
@@ -103,14 +106,21 @@ export function fitDrift(points: LinePoint[], options: DriftFitOptions = default
 		sxy += (p.x - centerX) * (p.y - meanY);
 	}
 	const chosenSpan = Math.max(...chosen.map((p) => p.x)) - Math.min(...chosen.map((p) => p.x));
-	const driftMeasured = canMeasureSlope && chosen.length >= options.minPointsForSlope && chosenSpan >= options.minSpanSeconds && sxx > 0;
+	let driftMeasured = canMeasureSlope && chosen.length >= options.minPointsForSlope && chosenSpan >= options.minSpanSeconds && sxx > 0;
 	let slope = driftMeasured ? sxy / sxx : 0;
 	if (Math.abs(slope) > maxSlope) slope = 0;
-	let squares = 0;
-	for (const p of chosen) squares += (p.y - meanY - slope * (p.x - centerX)) ** 2;
-	const dof = Math.max(chosen.length - (driftMeasured ? 2 : 1), 1);
-	// A floor on the residual keeps a lucky near-perfect fit from claiming infinite precision.
-	const sigma = Math.max(Math.sqrt(squares / dof), 10e-6);
+	const residualSigma = (withSlope: number, parameters: number) => {
+		let squares = 0;
+		for (const p of chosen) squares += (p.y - meanY - withSlope * (p.x - centerX)) ** 2;
+		// A floor on the residual keeps a lucky near-perfect fit from claiming infinite precision.
+		return { squares, sigma: Math.max(Math.sqrt(squares / Math.max(chosen.length - parameters, 1)), 10e-6) };
+	};
+	let { squares, sigma } = residualSigma(slope, driftMeasured ? 2 : 1);
+	if (driftMeasured && (sigma / Math.sqrt(sxx)) * 1e6 > options.maxSlopeStdPpm) {
+		driftMeasured = false;
+		slope = 0;
+		({ squares, sigma } = residualSigma(0, 1));
+	}
 	return {
 		offsetSeconds: meanY - slope * centerX,
 		slope,

@@ -33,17 +33,32 @@ export function realSpectrum(signal: ArrayLike<number>, size: number, offset = 0
 }
 
 /**
- * Real inverse of a Hermitian half spectrum (bins 0..size/2 in interleaved form):
- * mirrors the negative frequencies and runs fft.js' normalised inverse transform.
+ * Real inverse of a Hermitian half spectrum (bins 0..size/2, interleaved re/im), through one
+ * complex inverse FFT of half the size: with M = size/2, E_k = (X_k + X̄_{M−k})/2 and
+ * O_k = (X_k − X̄_{M−k})·e^{2πik/size}/2 are the spectra of the even and odd samples, and the
+ * inverse of E + iO interleaves them (the standard packing of two real sequences in one complex one).
  */
 export function inverseRealSpectrum(halfSpectrum: Float64Array, size: number): Float64Array {
-	const full = halfSpectrum.length === 2 * size ? halfSpectrum : new Float64Array(2 * size);
-	if (full !== halfSpectrum) full.set(halfSpectrum.subarray(0, size + 2));
-	const fft = fftOfSize(size);
-	fft.completeSpectrum(full);
-	const complexOut = new Float64Array(2 * size);
-	fft.inverseTransform(complexOut, full);
-	const out = new Float64Array(size);
-	for (let i = 0; i < size; i++) out[i] = complexOut[2 * i];
-	return out;
+	const m = size / 2;
+	const packed = new Float64Array(2 * m);
+	for (let k = 0; k < m; k++) {
+		const xr = halfSpectrum[2 * k];
+		const xi = halfSpectrum[2 * k + 1];
+		const yr = halfSpectrum[2 * (m - k)];
+		const yi = -halfSpectrum[2 * (m - k) + 1];
+		const er = 0.5 * (xr + yr);
+		const ei = 0.5 * (xi + yi);
+		const dr = 0.5 * (xr - yr);
+		const di = 0.5 * (xi - yi);
+		const angle = (2 * Math.PI * k) / size;
+		const c = Math.cos(angle);
+		const s = Math.sin(angle);
+		const or = dr * c - di * s;
+		const oi = dr * s + di * c;
+		packed[2 * k] = er - oi;
+		packed[2 * k + 1] = ei + or;
+	}
+	const complexOut = new Float64Array(2 * m);
+	fftOfSize(m).inverseTransform(complexOut, packed);
+	return complexOut;
 }

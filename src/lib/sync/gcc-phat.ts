@@ -51,6 +51,22 @@ export function lagValue(correlation: CrossCorrelation, lag: number): number {
 	return values[((lag % size) + size) % size];
 }
 
+const weightCache = new Map<string, Float64Array>();
+
+/** Band weight of every bin 0..size/2 (cached: the same few sizes recur for every window). */
+function bandWeights(size: number, sampleRate: number, band: BandWeighting | null | undefined): Float64Array | null {
+	if (!band) return null;
+	const key = `${size}:${sampleRate}:${band.lowHz}:${band.highHz}`;
+	let weights = weightCache.get(key);
+	if (!weights) {
+		weights = new Float64Array(size / 2 + 1);
+		for (let k = 0; k <= size / 2; k++) weights[k] = bandWeight((k * sampleRate) / size, sampleRate / 2, band);
+		if (weightCache.size > 32) weightCache.clear();
+		weightCache.set(key, weights);
+	}
+	return weights;
+}
+
 /** Weighted cross-correlation from two half spectra of the same size. */
 export function gccPhatFromSpectra(
 	spectrumA: Float64Array,
@@ -59,31 +75,37 @@ export function gccPhatFromSpectra(
 	options: GccPhatOptions
 ): CrossCorrelation {
 	const exponent = options.phatExponent ?? 1;
-	const nyquist = options.sampleRate / 2;
 	const half = size / 2;
+	const weights = bandWeights(size, options.sampleRate, options.band);
 	const weighted = new Float64Array(size + 2);
-	let maxMagnitude = 0;
+	let maxPower = 0;
 	for (let k = 0; k <= half; k++) {
-		const re = spectrumA[2 * k] * spectrumB[2 * k] + spectrumA[2 * k + 1] * spectrumB[2 * k + 1];
-		const im = spectrumA[2 * k + 1] * spectrumB[2 * k] - spectrumA[2 * k] * spectrumB[2 * k + 1];
+		if (weights && weights[k] === 0) continue;
+		const ar = spectrumA[2 * k];
+		const ai = spectrumA[2 * k + 1];
+		const br = spectrumB[2 * k];
+		const bi = spectrumB[2 * k + 1];
+		const re = ar * br + ai * bi;
+		const im = ai * br - ar * bi;
 		weighted[2 * k] = re;
 		weighted[2 * k + 1] = im;
-		const magnitude = Math.hypot(re, im);
-		if (magnitude > maxMagnitude) maxMagnitude = magnitude;
+		const power = re * re + im * im;
+		if (power > maxPower) maxPower = power;
 	}
 	// Guard the division: bins with (numerically) no energy in either signal carry no phase.
-	const floor = maxMagnitude * 1e-12;
+	const floor = maxPower * 1e-24;
 	let weightSum = 0;
 	for (let k = 0; k <= half; k++) {
-		const band = options.band ? bandWeight((k * options.sampleRate) / size, nyquist, options.band) : 1;
+		const band = weights ? weights[k] : 1;
+		if (band === 0) continue;
+		weightSum += band * (k === 0 || k === half ? 1 : 2);
 		const re = weighted[2 * k];
 		const im = weighted[2 * k + 1];
-		const magnitude = Math.hypot(re, im);
+		const power = re * re + im * im;
 		let w = 0;
-		if (band > 0 && magnitude > floor) w = exponent === 0 ? band : band / Math.pow(magnitude, exponent);
+		if (power > floor) w = exponent === 0 ? band : exponent === 1 ? band / Math.sqrt(power) : band / Math.pow(power, exponent / 2);
 		weighted[2 * k] = re * w;
 		weighted[2 * k + 1] = im * w;
-		weightSum += band * (k === 0 || k === half ? 1 : 2);
 	}
 	const values = inverseRealSpectrum(weighted, size);
 	return { size, values, weightedSpectrum: weighted, peakScale: weightSum / size };

@@ -22,6 +22,8 @@ export interface PairOptions {
 	coarseSegmentSeconds: number;
 	maxCoarseSegments: number;
 	windowSeconds: number;
+	/** Windows may overlap; their centres are at least this far apart. */
+	minWindowSpacingSeconds: number;
 	maxWindows: number;
 	/** Largest clock difference searched for, in ppm. */
 	maxDriftPpm: number;
@@ -33,10 +35,11 @@ export interface PairOptions {
 export const defaultPairOptions: PairOptions = {
 	band: { lowHz: 300, highHz: 3400 },
 	phatExponent: 1,
-	envelopeRate: 250,
+	envelopeRate: 125,
 	coarseSegmentSeconds: 60,
 	maxCoarseSegments: 8,
 	windowSeconds: 2,
+	minWindowSpacingSeconds: 1,
 	maxWindows: 48,
 	maxDriftPpm: 200,
 	drift: defaultDriftFitOptions,
@@ -269,7 +272,7 @@ export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOp
 	const overlapSeconds = Math.max(0, overlapEnd - overlapStart);
 	const usableStart = overlapStart + options.windowSeconds / 2 + 0.05;
 	const usableEnd = overlapEnd - options.windowSeconds / 2 - 0.05;
-	const windowCount = Math.min(options.maxWindows, Math.floor((usableEnd - usableStart) / options.windowSeconds) + 1);
+	const windowCount = Math.min(options.maxWindows, Math.floor((usableEnd - usableStart) / options.minWindowSpacingSeconds) + 1);
 	if (windowCount < 1) return unmatched('the clips barely overlap', coarse.match);
 
 	const measured: Omit<WindowMeasurement, 'inlier'>[] = [];
@@ -288,7 +291,7 @@ export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOp
 	const meanCoherence = inlierCoherence.length ? inlierCoherence.reduce((s, c) => s + c, 0) / inlierCoherence.length : 0;
 	const confidence = pairConfidence(inlierFraction, fit.inlierCount, meanCoherence);
 	const notes: string[] = [];
-	if (!fit.driftMeasured && fit.inlierCount > 0) notes.push('overlap too short to measure drift: drift set to 0');
+	if (confidence >= 0.5 && !fit.driftMeasured) notes.push('overlap too short to measure drift: drift set to 0');
 	return {
 		matched: confidence >= 0.5,
 		confidence,

@@ -25,16 +25,29 @@ export function topPeaks(
 	count: number,
 	separation: number
 ): CorrelationPeak[] {
-	const candidates: CorrelationPeak[] = [];
-	let previous = lagValue(correlation, minLag - 1);
-	let current = lagValue(correlation, minLag);
+	// Keep only the strongest local maxima while scanning (sorted, descending), enough for the
+	// separation rule below to still find `count` distinct peaks.
+	const keep = 16 * count;
+	const best: CorrelationPeak[] = [];
+	const { values, size } = correlation;
+	const wrap = (lag: number) => ((lag % size) + size) % size;
+	let previous = values[wrap(minLag - 1)];
+	let index = wrap(minLag);
+	let current = values[index];
 	for (let lag = minLag; lag <= maxLag; lag++) {
-		const next = lagValue(correlation, lag + 1);
-		if (current > 0 && current >= previous && current > next) candidates.push({ lag, value: current });
+		const nextIndex = index + 1 === size ? 0 : index + 1;
+		const next = values[nextIndex];
+		if (current > 0 && current >= previous && current > next && (best.length < keep || current > best[best.length - 1].value)) {
+			let at = best.length < keep ? best.length : keep - 1;
+			while (at > 0 && best[at - 1].value < current) at--;
+			best.splice(at, 0, { lag, value: current });
+			if (best.length > keep) best.pop();
+		}
 		previous = current;
 		current = next;
+		index = nextIndex;
 	}
-	candidates.sort((x, y) => y.value - x.value);
+	const candidates = best;
 	const chosen: CorrelationPeak[] = [];
 	for (const candidate of candidates) {
 		if (chosen.every((c) => Math.abs(c.lag - candidate.lag) >= separation)) chosen.push(candidate);
@@ -57,9 +70,10 @@ export function peakToSidelobeRatio(
 	let sum = 0;
 	let sumSquares = 0;
 	let n = 0;
+	const { values, size } = correlation;
 	for (let lag = minLag; lag <= maxLag; lag++) {
-		if (Math.abs(lag - peak.lag) <= exclusion) continue;
-		const v = lagValue(correlation, lag);
+		if (lag >= peak.lag - exclusion && lag <= peak.lag + exclusion) continue;
+		const v = values[lag >= 0 ? lag % size : (lag % size) + size];
 		sum += v;
 		sumSquares += v * v;
 		n++;

@@ -15,8 +15,11 @@ export interface AlignOptions {
 	analysisSampleRate?: number;
 	/** Parallel decodes and worker threads; default: the machine's cores. */
 	concurrency?: number;
-	/** Run the transforms on this thread instead of a worker pool (tests, tiny inputs). */
-	inline?: boolean;
+	/**
+	 * Where the transforms run: 'pool' in worker threads, 'inline' on this thread. 'auto' uses the
+	 * pool for more than 15 minutes of media, below which starting workers costs more than it saves.
+	 */
+	workers?: 'auto' | 'pool' | 'inline';
 	pairOptions?: Partial<PairOptions>;
 	onProgress?: (progress: AlignProgress) => void;
 	signal?: AbortSignal;
@@ -111,7 +114,9 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const sampleRate = options.analysisSampleRate ?? 8000;
 	const progress = options.onProgress ?? (() => {});
 
-	const probed = await Promise.allSettled(paths.map((path) => probeMedia(path)));
+	// Probe every file at once; each clip's decode starts as soon as its own probe is back.
+	const probing = paths.map((path) => probeMedia(path));
+	const probed = await Promise.allSettled(probing);
 	const failures = probed.flatMap((p, i) =>
 		p.status === 'rejected' ? [p.reason instanceof MediaReadError ? p.reason : new MediaReadError(paths[i], String(p.reason))] : []
 	);
@@ -119,7 +124,11 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const probes = probed.map((p) => (p as PromiseFulfilledResult<MediaProbe>).value);
 	progress({ stage: 'probe', done: probes.length, total: probes.length });
 
-	const pool = options.inline ? null : new Piscina<AlignTask, AnalysisTrack | PairEstimate>({ filename: workerFile(), maxThreads: concurrency, minThreads: 1 });
+	const totalSeconds = probes.reduce((sum, p) => sum + p.durationSeconds, 0);
+	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 900);
+	const pool = usePool
+		? new Piscina<AlignTask, AnalysisTrack | PairEstimate>({ filename: workerFile(), maxThreads: concurrency, minThreads: concurrency })
+		: null;
 	const runTask = async (task: AlignTask) => (pool ? pool.run(task) : runAlignTask(task));
 	try {
 		// One promise per clip, settled when its audio is decoded and prepared, so pairs start as

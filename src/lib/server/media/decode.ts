@@ -69,7 +69,13 @@ export function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTr
 			grown.set(samples.subarray(0, length));
 			samples = grown;
 		}
-		for (let i = 0; i < whole; i++, offset += 4) samples[length++] = chunk.readFloatLE(offset);
+		if ((chunk.byteOffset + offset) % 4 === 0) {
+			samples.set(new Float32Array(chunk.buffer, chunk.byteOffset + offset, whole), length);
+			length += whole;
+			offset += whole * 4;
+		} else {
+			for (let i = 0; i < whole; i++, offset += 4) samples[length++] = chunk.readFloatLE(offset);
+		}
 		while (offset < chunk.length) carry[carried++] = chunk[offset++];
 	});
 	return new Promise((resolve, reject) => {
