@@ -61,7 +61,25 @@ const adminOnly: Record<Persona, Outcome> = {
 	outsider: 'deny'
 };
 
+/** Routes about a job or clip id that does not exist: the guard answers first, then the scope finds nothing. */
+const editorProbe: Record<Persona, Outcome> = { ...editorOnly, editor: 'hidden', outsider: 'hidden' };
+const readProbe: Record<Persona, Outcome> = { ...signedIn, admin: 'hidden', editor: 'hidden', reviewer: 'hidden', processor: 'hidden', outsider: 'hidden' };
+
 export const ROUTE_RULES: RouteRule[] = [
+	{ route: '/sessions/[id=id]', method: 'POST ?/align', path: '/sessions/{session}?/align', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]', method: 'POST ?/clip', path: '/sessions/{session}?/clip', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]', method: 'POST ?/cancelJob', path: '/sessions/{session}?/cancelJob', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]', method: 'POST ?/retryJob', path: '/sessions/{session}?/retryJob', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]', method: 'POST ?/archive', path: '/sessions/{session}?/archive', body: 'form', expect: editorOfSession },
+	{ route: '/api/sessions/[id=id]/events', method: 'GET', path: '/api/sessions/{session}/events?once=1', expect: readSession },
+	{ route: '/api/sessions/[id=id]/jobs', method: 'GET', path: '/api/sessions/{session}/jobs', expect: readSession },
+	{ route: '/api/sessions/[id=id]/align', method: 'POST', path: '/api/sessions/{session}/align', body: 'json', expect: editorOfSession },
+	{ route: '/api/jobs/[id=id]/cancel', method: 'POST', path: '/api/jobs/no-such-job/cancel', body: 'json', expect: editorProbe },
+	{ route: '/api/jobs/[id=id]/retry', method: 'POST', path: '/api/jobs/no-such-job/retry', body: 'json', expect: editorProbe },
+	{ route: '/api/clips/[id=id]', method: 'GET', path: '/api/clips/no-such-clip', expect: readProbe },
+	{ route: '/api/clips/[id=id]', method: 'PATCH', path: '/api/clips/no-such-clip', body: 'json', expect: editorProbe },
+	{ route: '/api/clips/[id=id]/peaks', method: 'GET', path: '/api/clips/no-such-clip/peaks?end=1', expect: readProbe },
+	{ route: '/api/clips/[id=id]/proxy', method: 'GET', path: '/api/clips/no-such-clip/proxy', expect: readProbe },
 	{ route: '/', method: 'GET', path: '/', expect: everyone },
 	{ route: '/login', method: 'GET', path: '/login', expect: everyone },
 	{ route: '/login', method: 'POST', path: '/login', body: 'form', expect: everyone },

@@ -94,3 +94,13 @@ export function editSession(scope: WorkspaceScope, sessionId: string, baseVersio
 	if (result.changes === 0) throw new VersionConflict(scope.session(sessionId).version);
 	return scope.session(sessionId);
 }
+
+/** Archived sessions leave the list (a filter shows them again); nothing is deleted. */
+export function setArchived(scope: WorkspaceScope, sessionId: string, archived: boolean) {
+	const session = scope.session(sessionId);
+	db.update(captureSessions)
+		.set({ archivedAt: archived ? new Date() : null, updatedAt: new Date() })
+		.where(scope.where(captureSessions, eq(captureSessions.id, session.id)))
+		.run();
+	return scope.session(sessionId);
+}

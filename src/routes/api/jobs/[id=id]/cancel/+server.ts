@@ -1,0 +1,15 @@
+import { error, json } from '@sveltejs/kit';
+import { requirePermission } from '$lib/server/guard';
+import { cancelJob, JobStateError } from '$lib/server/jobs/queue';
+import { publicJob } from '$lib/server/jobs/public';
+import type { RequestHandler } from './$types';
+
+export const POST: RequestHandler = (event) => {
+	const { scope } = requirePermission(event, 'alignment:run');
+	try {
+		return json({ job: publicJob(cancelJob(scope, event.params.id)) });
+	} catch (e) {
+		if (e instanceof JobStateError) error(409, { code: 'job_state', message: e.message });
+		throw e;
+	}
+};
