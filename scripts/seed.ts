@@ -7,6 +7,7 @@ import { applyMigrations, db } from '../src/lib/server/db/index';
 import { captureSessions } from '../src/lib/server/db/schema';
 import { newId } from '../src/lib/server/ids';
 import { upsertPerson, upsertWorkspace } from '../src/lib/server/people';
+import { DEMO_SESSION_NAME, seedDemoSession } from './seed-demo-session';
 import type { RoleName } from '../src/lib/permissions';
 
 applyMigrations(db);
@@ -28,8 +29,9 @@ export const OUTSIDER = {
 const studio = upsertWorkspace('fieldglass', 'Fieldglass Capture Studio');
 const other = upsertWorkspace('tidewater', 'Tidewater Survey Unit');
 
+const ids: Record<string, string> = {};
 for (const person of DEMO_PEOPLE) {
-	await upsertPerson({ ...person, workspaceId: studio });
+	ids[person.role] = await upsertPerson({ ...person, workspaceId: studio });
 }
 // One person also works for a second workspace, with another role there,
 // and one belongs to that other workspace only.
@@ -40,6 +42,11 @@ if (!db.select().from(captureSessions).where(eq(captureSessions.workspaceId, oth
 	db.insert(captureSessions)
 		.values({ id: newId(), workspaceId: other, name: 'Breakwater lamp, low tide', site: 'North pier', captureDate: '2026-10-14' })
 		.run();
+}
+
+if (process.env.SEED_DEMO_SESSION !== '0') {
+	console.log(`Demo capture session "${DEMO_SESSION_NAME}": ingesting, probing and aligning…`);
+	await seedDemoSession(studio, ids.editor);
 }
 
 console.log('\nDemo people (workspace "Fieldglass Capture Studio"):');

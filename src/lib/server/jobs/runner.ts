@@ -141,3 +141,15 @@ async function execute(job: AnalysisJob, abort: AbortController): Promise<void> 
 export function runningJobIds(): string[] {
 	return [...running.keys()];
 }
+
+/** For scripts (the demo seed): runs jobs until none is queued or running, then returns. */
+export async function runJobsUntilIdle(timeoutMs = 10 * 60_000): Promise<void> {
+	startJobRunner();
+	const deadline = Date.now() + timeoutMs;
+	for (;;) {
+		const open = db.select({ id: analysisJobs.id, state: analysisJobs.state }).from(analysisJobs).all();
+		if (!open.some((j) => j.state === 'queued' || j.state === 'running') && running.size === 0) return;
+		if (Date.now() > deadline) throw new Error('Jobs did not finish in time.');
+		await new Promise((r) => setTimeout(r, 200));
+	}
+}
