@@ -62,6 +62,8 @@ export interface CoarseMatch {
 	/** Coarse segments whose best peaks agree with the chosen lag, of those tried. */
 	supportingSegments: number;
 	segments: number;
+	/** Sum of the agreeing segments' peak-to-sidelobe ratios. */
+	score: number;
 }
 
 export interface PairEstimate extends PairRelation {
@@ -109,13 +111,13 @@ interface CoarseCandidate {
  * correlated against the whole longer one (so drift over long clips cannot smear the peak),
  * then the lag most segments agree on wins.
  */
-function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions): { match: CoarseMatch; support: CoarseCandidate[] } | null {
+function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions): { match: CoarseMatch; support: CoarseCandidate[] }[] {
 	const swap = b.envelope.values.length > a.envelope.values.length;
 	const long = swap ? b.envelope : a.envelope;
 	const short = swap ? a.envelope : b.envelope;
 	const rate = long.rate;
 	const segmentLength = Math.min(short.values.length, Math.round(options.coarseSegmentSeconds * rate));
-	if (segmentLength < rate * 2 || long.values.length < rate * 2) return null;
+	if (segmentLength < rate * 2 || long.values.length < rate * 2) return [];
 	const segmentCount = Math.min(options.maxCoarseSegments, Math.max(1, Math.ceil(short.values.length / segmentLength)));
 	const size = nextPowerOfTwo(long.values.length + segmentLength - 1);
 	const longSpectrum = realSpectrum(long.values, size);
@@ -147,7 +149,7 @@ function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions):
 		);
 	}
 	const maxSlope = options.maxDriftPpm * 1e-6;
-	let best: { candidate: CoarseCandidate; score: number; support: CoarseCandidate[] } | null = null;
+	const ranked: { candidate: CoarseCandidate; score: number; support: CoarseCandidate[] }[] = [];
 	for (const candidates of perSegment) {
 		for (const candidate of candidates) {
 			let score = 0;
@@ -165,19 +167,22 @@ function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions):
 					support.push(bestHere);
 				}
 			}
-			if (!best || score > best.score) best = { candidate, score, support };
+			ranked.push({ candidate, score, support });
 		}
 	}
-	if (!best) return null;
-	return {
+	ranked.sort((x, y) => y.score - x.score);
+	// Distinct lags only: a candidate supported by the same segments as a better one is the same answer.
+	const distinct = ranked.filter((r, i) => ranked.slice(0, i).every((q) => Math.abs(q.candidate.lagSeconds - r.candidate.lagSeconds) > 0.02));
+	return distinct.slice(0, 3).map((r) => ({
 		match: {
-			lagSeconds: best.candidate.lagSeconds,
-			peakToSidelobe: best.candidate.peakToSidelobe,
-			supportingSegments: best.support.length,
-			segments: segmentCount
+			lagSeconds: r.candidate.lagSeconds,
+			peakToSidelobe: r.candidate.peakToSidelobe,
+			supportingSegments: r.support.length,
+			segments: segmentCount,
+			score: r.score
 		},
-		support: best.support
-	};
+		support: r.support
+	}));
 }
 
 /** Predicted lag along B's timeline from the agreeing coarse segments, with its uncertainty. */
@@ -262,10 +267,22 @@ function unmatched(note: string, coarse: CoarseMatch | null = null): PairEstimat
 export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions = defaultPairOptions): PairEstimate {
 	if (a.pcm.sampleRate !== b.pcm.sampleRate) throw new RangeError('both clips must be decoded at one sample rate');
 	if (a.levelDb < options.silenceDb || b.levelDb < options.silenceDb) return unmatched('no sound: the microphone looks muted');
-	const coarse = coarseSearch(a, b, options);
-	if (!coarse) return unmatched('too short to compare');
-	const predict = lagPredictor(coarse.support, a.envelope.rate, options.maxDriftPpm);
+	const candidates = coarseSearch(a, b, options);
+	if (candidates.length === 0) return unmatched('too short to compare');
+	let best: PairEstimate | null = null;
+	for (const [rank, candidate] of candidates.entries()) {
+		// A runner-up lag (a footstep period away, say) is tried only when the best one fails and the
+		// runner-up has real support of its own.
+		if (rank > 0 && (best?.matched || candidate.match.score < 0.3 * candidates[0].match.score)) break;
+		const estimate = refine(a, b, candidate, options);
+		if (!best || estimate.confidence > best.confidence) best = estimate;
+	}
+	return best ?? unmatched('no consistent lag');
+}
 
+/** Waveform refinement along the overlap around one coarse lag, then the robust drift fit. */
+function refine(a: AnalysisTrack, b: AnalysisTrack, coarse: { match: CoarseMatch; support: CoarseCandidate[] }, options: PairOptions): PairEstimate {
+	const predict = lagPredictor(coarse.support, a.envelope.rate, options.maxDriftPpm);
 	const center = predict(b.pcm.startSeconds + b.pcm.samples.length / b.pcm.sampleRate / 2).lagSeconds;
 	const overlapStart = Math.max(b.pcm.startSeconds, a.pcm.startSeconds - center);
 	const overlapEnd = Math.min(trackEnd(b.pcm), trackEnd(a.pcm) - center);

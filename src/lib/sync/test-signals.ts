@@ -60,3 +60,13 @@ export function renderClip(
 	}
 	return out;
 }
+
+/** Footsteps: loud, nearly periodic thuds (period ± jitter), the rhythm that must not fool the search. */
+export function footsteps(durationSeconds: number, periodSeconds: number, jitterSeconds: number, seed: number): Burst[] {
+	const random = seededRandom(seed);
+	const steps: Burst[] = [];
+	for (let t = random() * periodSeconds; t < durationSeconds; t += periodSeconds) {
+		steps.push({ timeSeconds: t + (random() * 2 - 1) * jitterSeconds, frequencyHz: 350 + random() * 250, widthSeconds: 0.012, amplitude: 0.8 });
+	}
+	return steps;
+}

@@ -18,9 +18,12 @@ export function decodeArguments(path: string, sampleRate: number): string[] {
 		// output sample k is at clip time k / sampleRate: audio that starts late gets leading silence.
 		'-copyts', '-i', path,
 		'-map', '0:a:0', '-vn', '-sn', '-dn',
-		'-af', `aresample=${sampleRate}:async=1:first_pts=0`,
+		// A shorter resampling filter than the default 32 taps: the analysis band stops well short of
+		// Nyquist, and this is a third of ffmpeg's work on a compressed track.
+		'-af', `aresample=${sampleRate}:async=1:first_pts=0:filter_size=16`,
 		'-ac', '1', '-ar', String(sampleRate),
-		'-f', 'f32le', 'pipe:1'
+		// 16-bit over the pipe: half the bytes, and far below any microphone's noise floor.
+		'-f', 's16le', 'pipe:1'
 	];
 }
 
@@ -33,7 +36,7 @@ export function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTr
 	let capacity = Math.max(1024, Math.ceil(((options.expectedSeconds ?? 60) + 2) * sampleRate));
 	let samples = new Float32Array(new SharedArrayBuffer(capacity * 4));
 	let length = 0;
-	const carry = Buffer.alloc(4);
+	const carry = Buffer.alloc(2);
 	let carried = 0;
 	const child = spawn(mediaBinaries().ffmpegPath, decodeArguments(path, sampleRate), {
 		stdio: ['ignore', 'pipe', 'pipe'],
@@ -57,26 +60,25 @@ export function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTr
 	child.stdout.on('data', (chunk: Buffer) => {
 		let offset = 0;
 		if (carried) {
-			while (carried < 4 && offset < chunk.length) carry[carried++] = chunk[offset++];
-			if (carried < 4) return;
-			push(carry.readFloatLE(0));
+			carry[carried++] = chunk[offset++];
+			push(carry.readInt16LE(0) / 32768);
 			carried = 0;
 		}
-		const whole = Math.floor((chunk.length - offset) / 4);
+		const whole = (chunk.length - offset) >> 1;
 		if (length + whole > capacity) {
 			capacity = Math.ceil((length + whole) * 1.25);
 			const grown = new Float32Array(new SharedArrayBuffer(capacity * 4));
 			grown.set(samples.subarray(0, length));
 			samples = grown;
 		}
-		if ((chunk.byteOffset + offset) % 4 === 0) {
-			samples.set(new Float32Array(chunk.buffer, chunk.byteOffset + offset, whole), length);
-			length += whole;
-			offset += whole * 4;
+		if ((chunk.byteOffset + offset) % 2 === 0) {
+			const pcm16 = new Int16Array(chunk.buffer, chunk.byteOffset + offset, whole);
+			for (let i = 0; i < whole; i++) samples[length++] = pcm16[i] / 32768;
 		} else {
-			for (let i = 0; i < whole; i++, offset += 4) samples[length++] = chunk.readFloatLE(offset);
+			for (let i = 0; i < whole; i++) samples[length++] = chunk.readInt16LE(offset + 2 * i) / 32768;
 		}
-		while (offset < chunk.length) carry[carried++] = chunk[offset++];
+		offset += whole * 2;
+		if (offset < chunk.length) carry[carried++] = chunk[offset];
 	});
 	return new Promise((resolve, reject) => {
 		child.on('error', (error) => reject(new MediaReadError(path, `ffmpeg did not run: ${error.message}`)));

@@ -107,8 +107,10 @@ export async function readFrameTimes(path: string): Promise<Float64Array> {
 	const text = await ffprobeJson(path, ['-select_streams', 'v:0', '-show_entries', 'packet=pts_time', '-of', 'csv=p=0']);
 	const times = text
 		.split('\n')
-		.map((line) => Number(line.split(',')[0]))
-		.filter((t) => Number.isFinite(t) && t > -1e9);
+		.map((line) => line.split(',')[0].trim())
+		.filter((field) => field !== '' && field !== 'N/A')
+		.map(Number)
+		.filter(Number.isFinite);
 	return Float64Array.from(times).sort();
 }
 
