@@ -59,8 +59,16 @@ export function createSession(scope: WorkspaceScope, createdBy: string | null, i
 	return scope.session(id);
 }
 
+const POSITION_ORDER = { high: 0, mid: 1, low: 2, other: 3 } as const;
+
+/** A session's clips as the rig carries them: high, mid, low, then others, each by label. */
 export function clipsOfSession(scope: WorkspaceScope, sessionId: string) {
-	return db.select().from(clips).where(scope.where(clips, eq(clips.sessionId, sessionId))).all();
+	return db
+		.select()
+		.from(clips)
+		.where(scope.where(clips, eq(clips.sessionId, sessionId)))
+		.all()
+		.sort((a, b) => POSITION_ORDER[a.cameraPosition] - POSITION_ORDER[b.cameraPosition] || a.cameraLabel.localeCompare(b.cameraLabel));
 }
 
 export function sessionWithClips(scope: WorkspaceScope, sessionId: string) {

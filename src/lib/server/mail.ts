@@ -59,17 +59,28 @@ export function startMail(): Promise<void> {
 			}
 		});
 		const server = localServer;
-		await new Promise<void>((resolve, reject) => {
-			server.once('error', reject);
-			server.listen(localPort(), '127.0.0.1', () => resolve());
+		const listen = (port: number) =>
+			new Promise<number>((resolve, reject) => {
+				server.once('error', reject);
+				server.listen(port, '127.0.0.1', () => {
+					server.off('error', reject);
+					const address = server.server.address();
+					resolve(typeof address === 'object' && address ? address.port : port);
+				});
+			});
+		// Another Lockstep (or anything) on the usual port must not stop this one: take a free port.
+		const port = await listen(localPort()).catch((error: NodeJS.ErrnoException) => {
+			if (error.code !== 'EADDRINUSE') throw error;
+			console.warn(`Mail: port ${localPort()} is taken; the local SMTP server uses a free port instead`);
+			return listen(0);
 		});
 		transporter = nodemailer.createTransport({
 			host: '127.0.0.1',
-			port: localPort(),
+			port,
 			secure: false,
 			ignoreTLS: true
 		});
-		console.log(`Mail: local SMTP server on 127.0.0.1:${localPort()}, messages shown in /admin/outbox`);
+		console.log(`Mail: local SMTP server on 127.0.0.1:${port}, messages shown in /admin/outbox`);
 	})();
 	return started;
 }
