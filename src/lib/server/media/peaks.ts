@@ -3,13 +3,23 @@ import { open, readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { bucketRange, chooseLevel, coarsenPeaks, PeakAccumulator, PEAK_BUCKET_SIZES } from '../../sync/peaks';
 import { mediaBinaries } from './binaries';
-import { decodeArguments } from './decode';
 
 /*
  * Peaks are computed while ffmpeg streams the clip's audio, so even an hour of 48 kHz sound
  * never sits in memory; each level is stored as little-endian float32 pairs in its own file
  * and read back one window at a time.
  */
+
+/** Mono float32 at the clip's own rate, on the container's timeline (sample k at clip time k / rate). */
+export function peaksDecodeArguments(mediaPath: string, sampleRate: number): string[] {
+	return [
+		'-nostdin', '-v', 'error', '-copyts', '-i', mediaPath,
+		'-map', '0:a:0', '-vn', '-sn', '-dn',
+		'-af', `aresample=${sampleRate}:async=1:first_pts=0`,
+		'-ac', '1', '-ar', String(sampleRate),
+		'-f', 'f32le', 'pipe:1'
+	];
+}
 
 export interface PeaksIndex {
 	sampleRate: number;
@@ -23,7 +33,7 @@ export async function computePeaks(
 	options: { signal?: AbortSignal; durationSeconds?: number; onProgress?: (fraction: number) => void } = {}
 ): Promise<PeaksIndex> {
 	const finest = new PeakAccumulator(PEAK_BUCKET_SIZES[0]);
-	const child = spawn(mediaBinaries().ffmpegPath, decodeArguments(mediaPath, sampleRate), {
+	const child = spawn(mediaBinaries().ffmpegPath, peaksDecodeArguments(mediaPath, sampleRate), {
 		stdio: ['ignore', 'pipe', 'pipe'],
 		signal: options.signal
 	});
