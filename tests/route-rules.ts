@@ -94,7 +94,16 @@ export const ROUTE_RULES: RouteRule[] = [
 	{ route: '/api/sessions', method: 'GET', path: '/api/sessions', expect: signedIn },
 	{ route: '/api/sessions', method: 'POST', path: '/api/sessions', body: 'json', expect: editorOnly },
 	{ route: '/api/sessions/[id=id]', method: 'GET', path: '/api/sessions/{session}', expect: readSession },
-	{ route: '/api/sessions/[id=id]', method: 'PATCH', path: '/api/sessions/{session}', body: 'json', expect: editorOfSession }
+	{ route: '/api/sessions/[id=id]', method: 'PATCH', path: '/api/sessions/{session}', body: 'json', expect: editorOfSession },
+	// Uploads (tus) and imports from server folders.
+	{ route: '/api/uploads/[...path]', method: 'GET', path: '/api/uploads', expect: editorOnly },
+	{ route: '/api/uploads/[...path]', method: 'POST', path: '/api/uploads', body: 'json', expect: editorOnly },
+	{ route: '/api/uploads/[...path]', method: 'HEAD', path: '/api/uploads/0123456789abcdef0123456789abcdef', expect: editorProbe },
+	{ route: '/api/uploads/[...path]', method: 'PATCH', path: '/api/uploads/0123456789abcdef0123456789abcdef', body: 'json', expect: editorProbe },
+	{ route: '/api/uploads/[...path]', method: 'DELETE', path: '/api/uploads/0123456789abcdef0123456789abcdef', expect: editorProbe },
+	{ route: '/api/import-roots', method: 'GET', path: '/api/import-roots', expect: { ...signedIn, reviewer: 'deny', processor: 'deny' } },
+	{ route: '/api/import-roots/[id=id]/browse', method: 'GET', path: '/api/import-roots/no-such-root/browse', expect: { ...editorProbe, admin: 'hidden' } },
+	{ route: '/api/sessions/[id=id]/imports', method: 'POST', path: '/api/sessions/{session}/imports', body: 'json', expect: editorOfSession }
 ];
 
 export const ADMIN_ONLY = adminOnly;
