@@ -23,10 +23,19 @@ export function fftOfSize(size: number): FFT {
  * Spectrum of a real signal zero-padded to `size` (a power of two), as interleaved
  * re/im pairs. Only bins 0..size/2 are filled; the rest is the conjugate mirror.
  */
+const inputScratch = new Map<number, Float64Array>();
+
 export function realSpectrum(signal: ArrayLike<number>, size: number, offset = 0, length = signal.length - offset): Float64Array {
-	const input = new Float64Array(size);
+	// The zero-padded input is scratch: reused per size, so long correlations do not churn memory.
+	let input = inputScratch.get(size);
+	if (!input) {
+		if (inputScratch.size > 4) inputScratch.clear();
+		input = new Float64Array(size);
+		inputScratch.set(size, input);
+	}
 	const n = Math.min(length, size);
 	for (let i = 0; i < n; i++) input[i] = signal[offset + i];
+	input.fill(0, n);
 	const out = new Float64Array(2 * size);
 	fftOfSize(size).realTransform(out, input);
 	return out;

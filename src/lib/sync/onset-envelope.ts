@@ -8,6 +8,8 @@ export interface OnsetEnvelope {
 	rate: number;
 	/** Clip time of value 0 (seconds). */
 	startSeconds: number;
+	/** RMS of the whole signal before filtering (full scale = 1). */
+	rms: number;
 }
 
 interface Biquad {
@@ -50,10 +52,12 @@ export function onsetEnvelope(
 	let previousLog = 0;
 	const floor = 1e-10;
 	let index = 0;
+	let squares = 0;
 	for (let frame = 0; frame < count; frame++) {
 		let energy = 0;
 		for (let i = 0; i < hop; i++, index++) {
 			const x = samples[index];
+			squares += x * x;
 			const y = b0 * x + b1 * x1 + b2 * x2 - a1 * y1 - a2 * y2;
 			x2 = x1;
 			x1 = x;
@@ -68,5 +72,6 @@ export function onsetEnvelope(
 		values[frame] = frame === 0 ? 0 : Math.max(logEnergy - previousLog, 0);
 		previousLog = logEnergy;
 	}
-	return { values, rate, startSeconds: startSeconds + hop / sampleRate / 2 };
+	for (; index < samples.length; index++) squares += samples[index] * samples[index];
+	return { values, rate, startSeconds: startSeconds + hop / sampleRate / 2, rms: Math.sqrt(squares / Math.max(samples.length, 1)) };
 }

@@ -2,7 +2,7 @@ import { fitDrift, defaultDriftFitOptions, type DriftFitOptions } from './drift-
 import { nextPowerOfTwo, realSpectrum } from './fft';
 import { gccPhat, gccPhatFromSpectra, type BandWeighting } from './gcc-phat';
 import { onsetEnvelope, type OnsetEnvelope } from './onset-envelope';
-import { peakToSidelobeRatio, refinePeakLag, topPeaks } from './peak';
+import { peakToSidelobeRatio, refinePeakLag, sidelobeStatistics, topPeaks } from './peak';
 import type { PairRelation, PcmTrack } from './types';
 
 /** A clip ready for pairing: its PCM plus the low-rate envelope the coarse search uses. */
@@ -37,7 +37,7 @@ export const defaultPairOptions: PairOptions = {
 	phatExponent: 1,
 	envelopeRate: 125,
 	coarseSegmentSeconds: 60,
-	maxCoarseSegments: 8,
+	maxCoarseSegments: 6,
 	windowSeconds: 2,
 	minWindowSpacingSeconds: 1,
 	maxWindows: 48,
@@ -83,16 +83,14 @@ export interface PairEstimate extends PairRelation {
 }
 
 export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
-	let squares = 0;
-	for (let i = 0; i < pcm.samples.length; i++) squares += pcm.samples[i] * pcm.samples[i];
-	const rms = Math.sqrt(squares / Math.max(pcm.samples.length, 1));
+	const envelope = onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, {
+		rate: options.envelopeRate,
+		highPassHz: options.band.lowHz
+	});
 	return {
 		pcm,
-		envelope: onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, {
-			rate: options.envelopeRate,
-			highPassHz: options.band.lowHz
-		}),
-		levelDb: rms > 0 ? 20 * Math.log10(rms) : Number.NEGATIVE_INFINITY
+		envelope,
+		levelDb: envelope.rms > 0 ? 20 * Math.log10(envelope.rms) : Number.NEGATIVE_INFINITY
 	};
 }
 
@@ -133,6 +131,9 @@ function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions):
 		const minLag = -(segmentLength - 1);
 		const maxLag = long.values.length - 1;
 		const peaks = topPeaks(correlation, minLag, maxLag, 3, Math.round(0.05 * rate));
+		// Over hundreds of thousands of lags the peaks' own neighbourhoods do not move the sidelobe
+		// statistics, so one pass serves all three peaks.
+		const sidelobes = peaks.length ? sidelobeStatistics(correlation, minLag, maxLag) : { mean: 0, deviation: 0 };
 		const centerSeconds = short.startSeconds + (start + segmentLength / 2) / rate;
 		perSegment.push(
 			peaks.map((peak) => {
@@ -143,7 +144,7 @@ function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions):
 				return {
 					segmentCenterSeconds: bCenter,
 					lagSeconds,
-					peakToSidelobe: peakToSidelobeRatio(correlation, minLag, maxLag, peak, 3)
+					peakToSidelobe: sidelobes.deviation > 0 ? (peak.value - sidelobes.mean) / sidelobes.deviation : 0
 				};
 			})
 		);

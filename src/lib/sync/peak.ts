@@ -85,6 +85,21 @@ export function peakToSidelobeRatio(
 	return (peak.value - mean) / deviation;
 }
 
+/** Mean and standard deviation of the correlation over a lag range. */
+export function sidelobeStatistics(correlation: CrossCorrelation, minLag: number, maxLag: number): { mean: number; deviation: number } {
+	const { values, size } = correlation;
+	let sum = 0;
+	let sumSquares = 0;
+	for (let lag = minLag; lag <= maxLag; lag++) {
+		const v = values[lag >= 0 ? lag % size : (lag % size) + size];
+		sum += v;
+		sumSquares += v * v;
+	}
+	const n = Math.max(maxLag - minLag + 1, 1);
+	const mean = sum / n;
+	return { mean, deviation: Math.sqrt(Math.max(sumSquares / n - mean * mean, 0)) };
+}
+
 /**
  * Sub-sample peak: parabolic interpolation first, then Newton steps on the band-limited
  * correlation evaluated exactly from its spectrum, which removes the parabola's bias

@@ -71,12 +71,12 @@ export function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTr
 			grown.set(samples.subarray(0, length));
 			samples = grown;
 		}
-		if ((chunk.byteOffset + offset) % 2 === 0) {
-			const pcm16 = new Int16Array(chunk.buffer, chunk.byteOffset + offset, whole);
-			for (let i = 0; i < whole; i++) samples[length++] = pcm16[i] / 32768;
-		} else {
-			for (let i = 0; i < whole; i++) samples[length++] = chunk.readInt16LE(offset + 2 * i) / 32768;
-		}
+		// Convert through a local view: a loop that writes through the closure's `length` is ten times slower.
+		const target = samples.subarray(length, length + whole);
+		if ((chunk.byteOffset + offset) % 2 === 0) target.set(new Int16Array(chunk.buffer, chunk.byteOffset + offset, whole));
+		else for (let i = 0; i < whole; i++) target[i] = chunk.readInt16LE(offset + 2 * i);
+		for (let i = 0; i < whole; i++) target[i] *= 1 / 32768;
+		length += whole;
 		offset += whole * 2;
 		if (offset < chunk.length) carry[carried++] = chunk[offset];
 	});
