@@ -28,7 +28,7 @@ export const actions = {
 		try {
 			const { rootId } = parseInput(RootTarget, fields);
 			removeImportRoot(scope, rootId);
-			return { action: 'remove' as const, done: 'Import folder removed. Clips already brought in from it stay.' };
+			return { action: 'remove' as const, done: 'Import folder removed. Clips already brought in stay in their sessions.' };
 		} catch (err) {
 			return formRefusal(err, { action: 'remove' as const, rootId: fields.rootId ?? '' });
 		}
