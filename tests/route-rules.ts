@@ -103,7 +103,13 @@ export const ROUTE_RULES: RouteRule[] = [
 	{ route: '/api/uploads/[...path]', method: 'DELETE', path: '/api/uploads/0123456789abcdef0123456789abcdef', expect: editorProbe },
 	{ route: '/api/import-roots', method: 'GET', path: '/api/import-roots', expect: { ...signedIn, reviewer: 'deny', processor: 'deny' } },
 	{ route: '/api/import-roots/[id=id]/browse', method: 'GET', path: '/api/import-roots/no-such-root/browse', expect: { ...editorProbe, admin: 'hidden' } },
-	{ route: '/api/sessions/[id=id]/imports', method: 'POST', path: '/api/sessions/{session}/imports', body: 'json', expect: editorOfSession }
+	{ route: '/api/sessions/[id=id]/imports', method: 'POST', path: '/api/sessions/{session}/imports', body: 'json', expect: editorOfSession },
+	// The alignment workbench and its JSON routes.
+	{ route: '/sessions/[id=id]/align', method: 'GET', path: '/sessions/{session}/align', expect: readSession },
+	{ route: '/api/sessions/[id=id]/alignment', method: 'GET', path: '/api/sessions/{session}/alignment', expect: readSession },
+	{ route: '/api/sessions/[id=id]/alignment', method: 'POST', path: '/api/sessions/{session}/alignment', body: 'json', expect: editorOfSession },
+	{ route: '/api/sessions/[id=id]/revisions', method: 'GET', path: '/api/sessions/{session}/revisions', expect: readSession },
+	{ route: '/api/sessions/[id=id]/revisions/[revision=id]/revert', method: 'POST', path: '/api/sessions/{session}/revisions/no-such-revision/revert', body: 'json', expect: editorOfSession }
 ];
 
 export const ADMIN_ONLY = adminOnly;
