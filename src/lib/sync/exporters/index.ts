@@ -1,0 +1,6 @@
+export * from './common';
+export * from './csv';
+export * from './json';
+export * from './otio';
+export * from './script';
+export * from './summary';
