@@ -60,14 +60,27 @@ async function probeJob(context: JobContext): Promise<void> {
 	alignWhenAllProbed(scope, clip.sessionId);
 }
 
-/** Once every clip of a session is probed, alignment starts by itself (if it has not run yet). */
+/**
+ * Once every clip of a session is probed, alignment starts by itself: the first time, and
+ * again when clips arrive later (uploads finish one by one) as long as nobody has edited the
+ * alignment by hand since — a person's nudges are never overwritten without being asked.
+ */
 function alignWhenAllProbed(scope: WorkspaceScope, sessionId: string): void {
 	const session = scope.session(sessionId);
 	const all = db.select().from(clips).where(eq(clips.sessionId, sessionId)).all();
 	if (all.some((c) => c.state === 'probing')) return;
-	if (session.status !== 'draft' || alignableClips(scope, sessionId).length < 2) return;
-	if (pendingJob('align', { sessionId })) return;
-	enqueueJob({ workspaceId: scope.workspaceId, sessionId, kind: 'align', params: { automatic: true } });
+	const alignable = alignableClips(scope, sessionId);
+	if (alignable.length < 2 || pendingJob('align', { sessionId })) return;
+	const neverAligned = alignable.some((c) => c.matched === null);
+	const editedByHand = db
+		.select({ kind: revisions.kind })
+		.from(revisions)
+		.where(eq(revisions.sessionId, sessionId))
+		.all()
+		.some((r) => r.kind !== 'alignment');
+	if (session.status === 'draft' || (neverAligned && !editedByHand)) {
+		enqueueJob({ workspaceId: scope.workspaceId, sessionId, kind: 'align', params: { automatic: true } });
+	}
 }
 
 async function peaksJob(context: JobContext): Promise<void> {
@@ -227,6 +240,7 @@ async function alignJob(context: JobContext): Promise<void> {
 			links: result.links
 		});
 	});
+	alignWhenAllProbed(scope, sessionId);
 }
 
 export function registerAnalysisHandlers(): void {
