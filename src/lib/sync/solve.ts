@@ -110,8 +110,8 @@ function solveDifferences(count: number, anchors: number[], equations: Equation[
 function componentOf(start: number, links: ClipLink[]): Set<number> {
 	const seen = new Set([start]);
 	const queue = [start];
-	while (queue.length) {
-		const node = queue.shift() as number;
+	for (let head = 0; head < queue.length; head++) {
+		const node = queue[head];
 		for (const l of links) {
 			const other = l.a === node ? l.b : l.b === node ? l.a : -1;
 			if (other >= 0 && !seen.has(other)) {

@@ -2,9 +2,10 @@ import { availableParallelism } from 'node:os';
 import { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, type FrameTiming } from '../../sync/frames';
 import { defaultPairOptions, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
-import { solveSession, type ClipLink, type SessionSolution } from '../../sync/solve';
+import { solveSession, type SessionSolution } from '../../sync/solve';
+import type { PcmTrack } from '../../sync/types';
 import type { Rational } from '../../sync/rational';
-import { runAlignTask, type AlignTask } from './align-worker';
+import { runAlignTask, type AlignTask, type AlignTaskResult } from './align-worker';
 import { decodeAudio } from './decode';
 import { MediaReadError, probeMedia, type MediaProbe } from './probe';
 
@@ -121,15 +122,25 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		p.status === 'rejected' ? [p.reason instanceof MediaReadError ? p.reason : new MediaReadError(paths[i], String(p.reason))] : []
 	);
 	if (failures.length) throw new MediaReadErrors(failures);
-	const probes = probed.map((p) => (p as PromiseFulfilledResult<MediaProbe>).value);
+	const probes = probed.flatMap((p) => (p.status === 'fulfilled' ? [p.value] : []));
 	progress({ stage: 'probe', done: probes.length, total: probes.length });
 
 	const totalSeconds = probes.reduce((sum, p) => sum + p.durationSeconds, 0);
 	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 900);
 	const pool = usePool
-		? new Piscina<AlignTask, AnalysisTrack | PairEstimate>({ filename: workerFile(), maxThreads: concurrency, minThreads: concurrency })
+		? new Piscina<AlignTask, AlignTaskResult>({ filename: workerFile(), maxThreads: concurrency, minThreads: concurrency })
 		: null;
-	const runTask = async (task: AlignTask) => (pool ? pool.run(task) : runAlignTask(task));
+	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
+	const prepare = async (pcm: PcmTrack): Promise<AnalysisTrack> => {
+		const result = await runTask({ kind: 'prepare', pcm, options: pairOptions });
+		if (result.kind !== 'prepare') throw new Error('align worker answered a prepare task with a pair');
+		return result.track;
+	};
+	const estimate = async (a: AnalysisTrack, b: AnalysisTrack): Promise<PairEstimate> => {
+		const result = await runTask({ kind: 'pair', a, b, options: pairOptions });
+		if (result.kind !== 'pair') throw new Error('align worker answered a pair task with a track');
+		return result.estimate;
+	};
 	try {
 		// One promise per clip, settled when its audio is decoded and prepared, so pairs start as
 		// soon as both of their clips are ready while other clips are still decoding.
@@ -147,7 +158,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			}
 			const expectedSeconds = probe.durationSeconds + Math.max(0, probe.audio.startSeconds);
 			const pcm = decodeAudio(probe.path, { sampleRate, expectedSeconds, signal: options.signal });
-			ready[index].settle(pcm.then((track) => runTask({ kind: 'prepare', pcm: track, options: pairOptions }) as Promise<AnalysisTrack>));
+			ready[index].settle(pcm.then(prepare));
 			await pcm;
 			progress({ stage: 'decode', done: ++decoded, total: probes.length });
 		});
@@ -158,12 +169,9 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		const pairsSettled = Promise.allSettled(
 			pairIndices.map(async ([a, b]) => {
 				const [trackA, trackB] = await Promise.all([ready[a].promise, ready[b].promise]);
-				const estimate =
-					trackA && trackB
-						? ((await runTask({ kind: 'pair', a: trackA, b: trackB, options: pairOptions })) as PairEstimate)
-						: null;
+				const result = trackA && trackB ? await estimate(trackA, trackB) : null;
 				progress({ stage: 'pairs', done: ++pairsDone, total: pairIndices.length });
-				return estimate ? { a, b, estimate } : null;
+				return result ? { a, b, estimate: result } : null;
 			})
 		);
 		const decodeResults = await decodes;
@@ -179,7 +187,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			return r.value;
 		});
 		const pairResults = pairs.filter((p): p is PairResult => p !== null);
-		const solution = solveSession(paths.length, pairResults as ClipLink[], { referenceIndex: options.referenceIndex });
+		const solution = solveSession(paths.length, pairResults, { referenceIndex: options.referenceIndex });
 		progress({ stage: 'solve', done: 1, total: 1 });
 
 		const clips: AlignedClip[] = probes.map((probe, i) => {

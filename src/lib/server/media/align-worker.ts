@@ -6,8 +6,12 @@ export type AlignTask =
 	| { kind: 'prepare'; pcm: PcmTrack; options: PairOptions }
 	| { kind: 'pair'; a: AnalysisTrack; b: AnalysisTrack; options: PairOptions };
 
-export function runAlignTask(task: AlignTask): AnalysisTrack | PairEstimate {
-	return task.kind === 'prepare' ? prepareTrack(task.pcm, task.options) : estimatePair(task.a, task.b, task.options);
+export type AlignTaskResult = { kind: 'prepare'; track: AnalysisTrack } | { kind: 'pair'; estimate: PairEstimate };
+
+export function runAlignTask(task: AlignTask): AlignTaskResult {
+	return task.kind === 'prepare'
+		? { kind: 'prepare', track: prepareTrack(task.pcm, task.options) }
+		: { kind: 'pair', estimate: estimatePair(task.a, task.b, task.options) };
 }
 
 export default runAlignTask;

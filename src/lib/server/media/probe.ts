@@ -97,7 +97,7 @@ async function ffprobeJson(path: string, args: string[]): Promise<string> {
 		const { stdout } = await run(mediaBinaries().ffprobePath, ['-v', 'error', ...args, path], { maxBuffer: 256 * 1024 * 1024 });
 		return stdout;
 	} catch (error) {
-		const stderr = (error as { stderr?: string }).stderr?.trim().split('\n').pop();
+		const stderr = error instanceof Error && 'stderr' in error && typeof error.stderr === 'string' ? error.stderr.trim().split('\n').pop() : undefined;
 		throw new MediaReadError(path, stderr || 'ffprobe could not read it');
 	}
 }
