@@ -11,19 +11,12 @@
  *   options: --out DIR (parent folder instead of fixtures/ or fixtures/generated/)
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { dirname, join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { join } from 'node:path';
 import { describeMediaBinaries } from '../src/lib/server/media/binaries';
 import { generateCase, verifyCase } from './fixtures/generate';
+import { caseDir } from './fixtures/paths';
 import { CASES, findCase, type CaseSpec } from './fixtures/scenarios';
 import type { Truth } from './fixtures/truth';
-
-const root = resolve(dirname(fileURLToPath(import.meta.url)), '..');
-
-export function caseDir(spec: CaseSpec, outParent?: string): string {
-	if (outParent) return join(resolve(outParent), spec.name);
-	return spec.committed ? join(root, 'fixtures', spec.name) : join(root, 'fixtures', 'generated', spec.name);
-}
 
 function usage(code: number): never {
 	console.log(
