@@ -109,12 +109,54 @@ interface CoarseCandidate {
  * correlated against the whole longer one (so drift over long clips cannot smear the peak),
  * then the lag most segments agree on wins.
  */
+/** Sums of `factor` consecutive envelope values: the same onsets at a fifth of the rate, say. */
+function decimateEnvelope(envelope: OnsetEnvelope, factor: number): OnsetEnvelope {
+	if (factor === 1) return envelope;
+	const values = new Float32Array(Math.floor(envelope.values.length / factor));
+	for (let i = 0; i < values.length; i++) {
+		let sum = 0;
+		for (let j = 0; j < factor; j++) sum += envelope.values[i * factor + j];
+		values[i] = sum;
+	}
+	const rate = envelope.rate / factor;
+	return { values, rate, startSeconds: envelope.startSeconds + (factor - 1) / envelope.rate / 2, rms: envelope.rms };
+}
+
+/**
+ * Back at the full envelope rate, the lag of one agreeing segment, searched ±searchSeconds around
+ * what the decimated search found (timeLong − timeShort at the short clip's `shortCenterSeconds`).
+ */
+function sharpenLag(long: OnsetEnvelope, short: OnsetEnvelope, shortCenterSeconds: number, longMinusShort: number, segmentSeconds: number, searchSeconds: number): number {
+	const rate = long.rate;
+	const shortStart = Math.max(0, Math.round((shortCenterSeconds - segmentSeconds / 2 - short.startSeconds) * rate));
+	const shortEnd = Math.min(short.values.length, shortStart + Math.round(segmentSeconds * rate));
+	const margin = Math.ceil(searchSeconds * rate);
+	const longStart = Math.round((short.startSeconds + shortStart / rate + longMinusShort - long.startSeconds) * rate) - margin;
+	const from = Math.max(0, longStart);
+	const to = Math.min(long.values.length, longStart + (shortEnd - shortStart) + 2 * margin);
+	if (shortEnd - shortStart < rate || to - from < shortEnd - shortStart) return longMinusShort;
+	const correlation = gccPhat(long.values.subarray(from, to), short.values.subarray(shortStart, shortEnd), {
+		sampleRate: rate,
+		band: { lowHz: 0.5, highHz: rate * 0.35 },
+		phatExponent: 1
+	});
+	const [peak] = topPeaks(correlation, 0, to - from - (shortEnd - shortStart), 1, 1);
+	if (!peak) return longMinusShort;
+	return (from + peak.lag - shortStart) / rate + long.startSeconds - short.startSeconds;
+}
+
 function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions): { match: CoarseMatch; support: CoarseCandidate[] }[] {
 	const swap = b.envelope.values.length > a.envelope.values.length;
-	const long = swap ? b.envelope : a.envelope;
-	const short = swap ? a.envelope : b.envelope;
+	const fullLong = swap ? b.envelope : a.envelope;
+	const fullShort = swap ? a.envelope : b.envelope;
+	// Long clips are searched at a fifth of the envelope rate with four times longer segments (drift
+	// smears a 240 s segment by under 50 ms at 200 ppm, about one sample there), then sharpened.
+	const factor = fullLong.values.length / fullLong.rate > 720 ? 5 : 1;
+	const long = decimateEnvelope(fullLong, factor);
+	const short = decimateEnvelope(fullShort, factor);
 	const rate = long.rate;
-	const segmentLength = Math.min(short.values.length, Math.round(options.coarseSegmentSeconds * rate));
+	const segmentSeconds = options.coarseSegmentSeconds * (factor === 1 ? 1 : 4);
+	const segmentLength = Math.min(short.values.length, Math.round(segmentSeconds * rate));
 	if (segmentLength < rate * 2 || long.values.length < rate * 2) return [];
 	const segmentCount = Math.min(options.maxCoarseSegments, Math.max(1, Math.ceil(short.values.length / segmentLength)));
 	const size = nextPowerOfTwo(long.values.length + segmentLength - 1);
@@ -138,7 +180,8 @@ function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions):
 		perSegment.push(
 			peaks.map((peak) => {
 				// Lag k: short[start + n] sits at long[n + k]; express it as timeLong − timeShort.
-				const longMinusShort = (peak.lag - start) / rate + long.startSeconds - short.startSeconds;
+				let longMinusShort = (peak.lag - start) / rate + long.startSeconds - short.startSeconds;
+				if (factor > 1) longMinusShort = sharpenLag(fullLong, fullShort, centerSeconds, longMinusShort, options.coarseSegmentSeconds, 2.5 / rate);
 				const lagSeconds = swap ? -longMinusShort : longMinusShort;
 				const bCenter = swap ? centerSeconds + longMinusShort : centerSeconds;
 				return {
