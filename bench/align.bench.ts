@@ -5,7 +5,7 @@
  */
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { availableParallelism, cpus, tmpdir } from 'node:os';
+import { availableParallelism, cpus, loadavg, tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { CASES } from '../scripts/fixtures/scenarios';
@@ -39,6 +39,9 @@ interface CaseResult {
 	alignWallSeconds: number;
 	alignInProcessSeconds: number | null;
 	bareDecodeSeconds: number;
+	alignCpuSeconds: number;
+	bareDecodeCpuSeconds: number;
+	loadAverage: number;
 	peakRssMb: number;
 	mediaSeconds: number;
 }
@@ -55,33 +58,39 @@ function run(command: string, args: string[], env: NodeJS.ProcessEnv = process.e
 	});
 }
 
-/** The floor: ffmpeg alone decoding every clip's audio, as many at once as align runs. */
-async function bareDecodeSeconds(files: string[]): Promise<number> {
+/** The floor: ffmpeg alone decoding every clip's audio, as many at once as align runs. Wall and CPU seconds. */
+async function bareDecode(files: string[]): Promise<{ wall: number; cpu: number }> {
 	const started = performance.now();
 	let next = 0;
+	let cpu = 0;
 	const { ffmpegPath } = mediaBinaries();
+	const dir = mkdtempSync(join(tmpdir(), 'decode-bench-'));
 	await Promise.all(
-		Array.from({ length: parallel }, async () => {
+		Array.from({ length: parallel }, async (_, lane) => {
 			while (next < files.length) {
 				const file = files[next++];
-				const result = await run(ffmpegPath, ['-nostdin', '-v', 'error', '-i', file, '-map', '0:a:0', '-vn', '-f', 'null', '-']);
+				const timeFile = join(dir, `time-${lane}.txt`);
+				const result = await run('/usr/bin/time', ['-f', '%U %S', '-o', timeFile, ffmpegPath, '-nostdin', '-v', 'error', '-i', file, '-map', '0:a:0', '-vn', '-f', 'null', '-']);
 				if (result.code !== 0) throw new Error(`ffmpeg could not decode ${file}: ${result.stderr}`);
+				const [user, system] = readFileSync(timeFile, 'utf8').trim().split('\n').pop()!.split(' ').map(Number);
+				cpu += user + system;
 			}
 		})
 	);
-	return (performance.now() - started) / 1000;
+	rmSync(dir, { recursive: true, force: true });
+	return { wall: (performance.now() - started) / 1000, cpu };
 }
 
 async function runAlign(files: string[]) {
 	const dir = mkdtempSync(join(tmpdir(), 'align-bench-'));
 	const timeFile = join(dir, 'time.txt');
 	const started = performance.now();
-	const result = await run('/usr/bin/time', ['-f', '%M %e', '-o', timeFile, join(root, 'node_modules/.bin/tsx'), join(root, 'scripts/align.ts'), '--json', ...files], {
+	const result = await run('/usr/bin/time', ['-f', '%M %e %U %S', '-o', timeFile, join(root, 'node_modules/.bin/tsx'), join(root, 'scripts/align.ts'), '--json', ...files], {
 		...process.env,
 		LOCKSTEP_ALIGN_STATS: '1'
 	});
 	const wall = (performance.now() - started) / 1000;
-	const [maxRssKb] = readFileSync(timeFile, 'utf8').trim().split('\n').pop()!.split(' ').map(Number);
+	const [maxRssKb, , user, system] = readFileSync(timeFile, 'utf8').trim().split('\n').pop()!.split(' ').map(Number);
 	rmSync(dir, { recursive: true, force: true });
 	if (result.code !== 0) throw new Error(`align failed (${result.code}): ${result.stderr}`);
 	const statsLine = result.stderr.split('\n').find((l) => l.includes('alignStats'));
@@ -90,6 +99,8 @@ async function runAlign(files: string[]) {
 		json: JSON.parse(result.stdout) as AlignJson,
 		wall,
 		inProcess: stats ? stats.alignMs / 1000 : null,
+		// CPU of the whole process tree: node, its worker threads and the ffmpeg children it waited for.
+		cpu: user + system,
 		peakRssMb: Math.max(maxRssKb, stats?.maxRssKb ?? 0) / 1024
 	};
 }
@@ -134,15 +145,15 @@ function report(results: CaseResult[], skipped: string[]): string {
 		'',
 		'## Per case',
 		'',
-		'| case | media s | align wall s | align in-process s | bare decode s | wall ÷ decode | in-process ÷ decode | peak RSS MB |',
-		'|---|---:|---:|---:|---:|---:|---:|---:|'
+		'| case | media s | align wall s | align in-process s | bare decode s | wall ÷ decode | in-process ÷ decode | align CPU s | decode CPU s | CPU ÷ decode CPU | peak RSS MB | load avg |',
+		'|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|'
 	];
 	for (const r of results) {
 		lines.push(
-			`| ${r.name} | ${r.mediaSeconds.toFixed(0)} | ${f(r.alignWallSeconds, 2)} | ${f(r.alignInProcessSeconds, 2)} | ${f(r.bareDecodeSeconds, 2)} | ${f(r.alignWallSeconds / r.bareDecodeSeconds, 2)} | ${r.alignInProcessSeconds === null ? '—' : f(r.alignInProcessSeconds / r.bareDecodeSeconds, 2)} | ${f(r.peakRssMb, 0)} |`
+			`| ${r.name} | ${r.mediaSeconds.toFixed(0)} | ${f(r.alignWallSeconds, 2)} | ${f(r.alignInProcessSeconds, 2)} | ${f(r.bareDecodeSeconds, 2)} | ${f(r.alignWallSeconds / r.bareDecodeSeconds, 2)} | ${r.alignInProcessSeconds === null ? '—' : f(r.alignInProcessSeconds / r.bareDecodeSeconds, 2)} | ${f(r.alignCpuSeconds, 2)} | ${f(r.bareDecodeCpuSeconds, 2)} | ${f(r.alignCpuSeconds / r.bareDecodeCpuSeconds, 2)} | ${f(r.peakRssMb, 0)} | ${f(r.loadAverage, 1)} |`
 		);
 	}
-	lines.push('', '"align wall" is the whole `tsx scripts/align.ts --json` process, TypeScript start-up (1–3 s here) included; "in-process" is from argument parsing to the printed result. Bare decode: `ffmpeg -i FILE -map 0:a:0 -vn -f null -` for every clip, ' + parallel + ' at a time (the mean of a run before and after align).', '', '## Per clip', '');
+	lines.push('', '"align wall" is the whole `tsx scripts/align.ts --json` process, TypeScript start-up (1–3 s here) included; "in-process" is from argument parsing to the printed result. Bare decode: `ffmpeg -i FILE -map 0:a:0 -vn -f null -` for every clip, ' + parallel + ' at a time (the mean of a run before and after align). CPU columns are user + system seconds of the whole process tree (GNU time), less sensitive than wall time to other work on the machine; "load avg" is the 1-minute load average around the case (2 cores: anything above 2 means the run was waiting for CPU).', '', '## Per clip', '');
 	lines.push('| case | clip | duration s | truth | matched | confidence | mapping error ms | drift error ppm | verdict |', '|---|---|---:|---|---|---:|---:|---:|---|');
 	for (const r of results) {
 		for (const c of r.clips) {
@@ -162,6 +173,7 @@ function report(results: CaseResult[], skipped: string[]): string {
 		`- Mapping error of matched clips: worst ${f(Math.max(0, ...matched.map((c) => c.mappingErrorMs!)), 4)} ms over ${matched.length} clips (target ≤ 0.5 ms).`,
 		`- Drift error on clips ≥ 5 min: worst ${long.length ? f(Math.max(...long.map((c) => c.driftErrorPpm!)), 3) : '—'} ppm over ${long.length} clips (target ≤ 0.5 ppm).`,
 		`- Clips without common sound reported matched: ${all.filter((c) => c.verdict === 'false match').length} (target 0); clips with common sound missed: ${all.filter((c) => c.verdict === 'missed').length}.`,
+		`- CPU, align ÷ bare decode: worst ${f(Math.max(...results.map((r) => r.alignCpuSeconds / r.bareDecodeCpuSeconds)), 2)}×, best ${f(Math.min(...results.map((r) => r.alignCpuSeconds / r.bareDecodeCpuSeconds)), 2)}×.`,
 		`- Speed, in-process align ÷ bare decode: worst ${f(Math.max(...results.map((r) => (r.alignInProcessSeconds ?? r.alignWallSeconds) / r.bareDecodeSeconds)), 2)}× (target ≤ 1.5×); whole process ÷ decode: worst ${f(Math.max(...results.map((r) => r.alignWallSeconds / r.bareDecodeSeconds)), 2)}×.`,
 		`- Three 60-minute clips: ${three ? `${f(three.peakRssMb, 0)} MB peak RSS (target < 1024 MB)` : 'not run'}.`
 	);
@@ -191,9 +203,10 @@ async function main() {
 		const truth = JSON.parse(readFileSync(join(dir, 'truth.json'), 'utf8')) as Truth;
 		const files = truth.clips.map((c) => join(dir, c.file));
 		console.error(`${spec.name}: ${files.length} clips`);
-		const decodeBefore = await bareDecodeSeconds(files);
+		const loadBefore = loadavg()[0];
+		const decodeBefore = await bareDecode(files);
 		const align = await runAlign(files);
-		const decodeAfter = await bareDecodeSeconds(files);
+		const decodeAfter = await bareDecode(files);
 		const clips = judge(truth, align.json, dir);
 		results.push({
 			name: spec.name,
@@ -202,13 +215,16 @@ async function main() {
 			reference: align.json.reference,
 			alignWallSeconds: align.wall,
 			alignInProcessSeconds: align.inProcess,
-			bareDecodeSeconds: (decodeBefore + decodeAfter) / 2,
+			bareDecodeSeconds: (decodeBefore.wall + decodeAfter.wall) / 2,
+			alignCpuSeconds: align.cpu,
+			bareDecodeCpuSeconds: (decodeBefore.cpu + decodeAfter.cpu) / 2,
+			loadAverage: (loadBefore + loadavg()[0]) / 2,
 			peakRssMb: align.peakRssMb,
 			mediaSeconds: truth.clips.reduce((s, c) => s + c.durationSeconds, 0)
 		});
 		const r = results[results.length - 1];
 		console.error(
-			`  align ${r.alignWallSeconds.toFixed(2)} s (in-process ${r.alignInProcessSeconds?.toFixed(2)} s), decode ${r.bareDecodeSeconds.toFixed(2)} s, ${r.peakRssMb.toFixed(0)} MB; ` +
+			`  align ${r.alignWallSeconds.toFixed(2)} s (in-process ${r.alignInProcessSeconds?.toFixed(2)} s, CPU ${r.alignCpuSeconds.toFixed(2)} s), decode ${r.bareDecodeSeconds.toFixed(2)} s (CPU ${r.bareDecodeCpuSeconds.toFixed(2)} s), ${r.peakRssMb.toFixed(0)} MB, load ${r.loadAverage.toFixed(1)}; ` +
 				clips.map((c) => `${c.file}: ${c.verdict}${c.mappingErrorMs !== null ? ` ${c.mappingErrorMs.toFixed(3)} ms ${c.driftErrorPpm!.toFixed(2)} ppm` : ''}`).join(', ')
 		);
 	}

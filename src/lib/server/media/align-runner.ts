@@ -1,4 +1,7 @@
-import { availableParallelism } from 'node:os';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { availableParallelism, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, type FrameTiming } from '../../sync/frames';
 import { defaultPairOptions, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
@@ -18,7 +21,7 @@ export interface AlignOptions {
 	concurrency?: number;
 	/**
 	 * Where the transforms run: 'pool' in worker threads, 'inline' on this thread. 'auto' uses the
-	 * pool for more than 15 minutes of media, below which starting workers costs more than it saves.
+	 * pool for more than 5 minutes of media, below which starting workers costs more than it saves.
 	 */
 	workers?: 'auto' | 'pool' | 'inline';
 	pairOptions?: Partial<PairOptions>;
@@ -100,9 +103,24 @@ async function mapLimited<T, R>(items: T[], limit: number, work: (item: T, index
 	return results;
 }
 
-function workerFile(): string {
-	const extension = import.meta.url.endsWith('.ts') ? '.ts' : '.js';
-	return new URL(`./align-worker${extension}`, import.meta.url).href;
+/**
+ * The worker module. Built code has a .js sibling. From TypeScript source (tsx, vitest) the worker
+ * is bundled once into plain JavaScript, so each thread starts in milliseconds instead of loading a
+ * TypeScript loader and compiling the sync modules again; without esbuild the .ts file is used.
+ */
+async function workerFile(): Promise<{ url: string; cleanup: () => void }> {
+	const keep = { cleanup: () => {} };
+	if (!import.meta.url.endsWith('.ts')) return { url: new URL('./align-worker.js', import.meta.url).href, ...keep };
+	const source = new URL('./align-worker.ts', import.meta.url);
+	try {
+		const { build } = await import('esbuild');
+		const dir = mkdtempSync(join(tmpdir(), 'lockstep-align-'));
+		const outfile = join(dir, 'align-worker.mjs');
+		await build({ entryPoints: [fileURLToPath(source)], bundle: true, format: 'esm', platform: 'node', target: 'node20', outfile, logLevel: 'silent' });
+		return { url: pathToFileURL(outfile).href, cleanup: () => rmSync(dir, { recursive: true, force: true }) };
+	} catch {
+		return { url: source.href, ...keep };
+	}
 }
 
 /**
@@ -126,9 +144,10 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	progress({ stage: 'probe', done: probes.length, total: probes.length });
 
 	const totalSeconds = probes.reduce((sum, p) => sum + p.durationSeconds, 0);
-	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 900);
-	const pool = usePool
-		? new Piscina<AlignTask, AlignTaskResult>({ filename: workerFile(), maxThreads: concurrency, minThreads: concurrency })
+	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 300);
+	const worker = usePool ? await workerFile() : null;
+	const pool = worker
+		? new Piscina<AlignTask, AlignTaskResult>({ filename: worker.url, maxThreads: concurrency, minThreads: concurrency })
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
 	const prepare = async (pcm: PcmTrack): Promise<AnalysisTrack> => {
@@ -215,6 +234,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		return { referenceIndex: solution.referenceIndex, clips, pairs: pairResults, solution, commonSpan: commonSpanOf(clips) };
 	} finally {
 		await pool?.destroy();
+		worker?.cleanup();
 	}
 }
 
