@@ -110,8 +110,10 @@ async function mapLimited<T, R>(items: T[], limit: number, work: (item: T, index
  */
 async function workerFile(): Promise<{ url: string; cleanup: () => void }> {
 	const keep = { cleanup: () => {} };
-	if (!import.meta.url.endsWith('.ts')) return { url: new URL('./align-worker.js', import.meta.url).href, ...keep };
-	const source = new URL('./align-worker.ts', import.meta.url);
+	// Built from a variable so bundlers do not mistake it for an asset import.
+	const worker = './align-worker';
+	if (!import.meta.url.endsWith('.ts')) return { url: new URL(worker + '.js', import.meta.url).href, ...keep };
+	const source = new URL(worker + '.ts', import.meta.url);
 	try {
 		const { build } = await import('esbuild');
 		const dir = mkdtempSync(join(tmpdir(), 'lockstep-align-'));

@@ -1,0 +1,61 @@
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mediaBinaries } from './binaries';
+import { decodeAudio } from './decode';
+import { probeMedia } from './probe';
+
+let dir = '';
+const sampleRate = 8000;
+
+/** Index of the loudest sample: where the click is. */
+function clickSeconds(samples: Float32Array): number {
+	let best = 0;
+	for (let i = 1; i < samples.length; i++) if (Math.abs(samples[i]) > Math.abs(samples[best])) best = i;
+	return best / sampleRate;
+}
+
+beforeAll(() => {
+	dir = mkdtempSync(join(tmpdir(), 'decode-spec-'));
+	const { ffmpegPath } = mediaBinaries();
+	const ffmpeg = (args: string[]) => execFileSync(ffmpegPath, ['-v', 'error', '-y', ...args]);
+	// A 2 ms click at 1.000 s in 3 s of 48 kHz audio, with 25 fps video, AAC in MP4 (priming samples and an edit list).
+	ffmpeg([
+		'-f', 'lavfi', '-i', "aevalsrc='if(between(t,1.0,1.002),0.9,0)':s=48000:d=3",
+		'-f', 'lavfi', '-i', 'testsrc2=s=160x120:r=25:d=3',
+		'-map', '1:v', '-map', '0:a', '-c:v', 'libx264', '-preset', 'ultrafast', '-c:a', 'aac', '-b:a', '128k',
+		join(dir, 'click.mp4')
+	]);
+	// The same audio placed 0.5 s later on the container's timeline than the video.
+	ffmpeg(['-i', join(dir, 'click.mp4'), '-itsoffset', '0.5', '-i', join(dir, 'click.mp4'), '-map', '0:v', '-map', '1:a', '-c', 'copy', join(dir, 'late-audio.mp4')]);
+});
+
+afterAll(() => {
+	if (dir) rmSync(dir, { recursive: true, force: true });
+});
+
+describe('decodeAudio', () => {
+	it('puts sample k at clip time k / rate, the AAC priming removed', async () => {
+		const pcm = await decodeAudio(join(dir, 'click.mp4'), { sampleRate, expectedSeconds: 3 });
+		expect(pcm.sampleRate).toBe(sampleRate);
+		// The click was written at 1.000–1.002 s (aevalsrc above); ISO/IEC 14496-12 edit lists remove the encoder delay.
+		expect(Math.abs(clickSeconds(pcm.samples) - 1.001)).toBeLessThan(1.5e-3);
+	});
+
+	it('keeps audio that starts after the video where the container places it', async () => {
+		const probe = await probeMedia(join(dir, 'late-audio.mp4'));
+		expect(probe.audio?.startSeconds).toBeGreaterThan(0.4);
+		const pcm = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate, expectedSeconds: probe.durationSeconds });
+		// Shifted by the 0.5 s timestamp offset (STACK.md: the decoded samples' timestamps place them).
+		expect(Math.abs(clickSeconds(pcm.samples) - 1.501)).toBeLessThan(1.5e-3);
+		// Leading silence fills the gap before the audio's first sample.
+		expect(Math.max(...pcm.samples.subarray(0, Math.round(0.4 * sampleRate)).map(Math.abs))).toBe(0);
+	});
+
+	it('fails with one clear reason for a file that is not media', async () => {
+		await expect(decodeAudio(join(dir, 'missing.mp4'), { sampleRate })).rejects.toThrow(/missing\.mp4/);
+		await expect(probeMedia(join(dir, 'missing.mp4'))).rejects.toThrow(/No such file/);
+	});
+});
