@@ -109,7 +109,10 @@ export const ROUTE_RULES: RouteRule[] = [
 	{ route: '/api/sessions/[id=id]/alignment', method: 'GET', path: '/api/sessions/{session}/alignment', expect: readSession },
 	{ route: '/api/sessions/[id=id]/alignment', method: 'POST', path: '/api/sessions/{session}/alignment', body: 'json', expect: editorOfSession },
 	{ route: '/api/sessions/[id=id]/revisions', method: 'GET', path: '/api/sessions/{session}/revisions', expect: readSession },
-	{ route: '/api/sessions/[id=id]/revisions/[revision=id]/revert', method: 'POST', path: '/api/sessions/{session}/revisions/no-such-revision/revert', body: 'json', expect: editorOfSession }
+	{ route: '/api/sessions/[id=id]/revisions/[revision=id]/revert', method: 'POST', path: '/api/sessions/{session}/revisions/no-such-revision/revert', body: 'json', expect: editorOfSession },
+	// Timing table: everyone of the workspace previews it; only a processor takes files away.
+	{ route: '/sessions/[id=id]/export', method: 'GET', path: '/sessions/{session}/export', expect: readSession },
+	{ route: '/api/sessions/[id=id]/timing-table', method: 'GET', path: '/api/sessions/{session}/timing-table?format=csv', expect: { anon: 'login', admin: 'deny', editor: 'deny', reviewer: 'deny', processor: 'allow', outsider: 'deny' } }
 ];
 
 export const ADMIN_ONLY = adminOnly;
