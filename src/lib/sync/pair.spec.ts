@@ -26,6 +26,19 @@ describe('estimatePair', () => {
 		expect(estimate.driftMeasured).toBe(true);
 	});
 
+	it('honours each track’s start time on its clip timeline', () => {
+		const scene = randomScene(200, 21, 8);
+		const a = clip(scene, 150, 10, 0, 1);
+		const b = prepareTrack({
+			samples: renderClip(scene, { sampleRate, durationSeconds: 120, offsetSeconds: 47.25, driftPpm: 60, noise: 0.03, seed: 2 }),
+			sampleRate,
+			startSeconds: 1.25
+		});
+		const estimate = estimatePair(a, b);
+		// Sample k now sits at clip time 1.25 + k/rate, so tA = 37.25 − 1.25·(1 + 60e-6) + tB·(1 + 60e-6) (computed).
+		expect(Math.abs(estimate.offsetSeconds - (37.25 - 1.25 * (1 + 60e-6)))).toBeLessThan(0.1e-3);
+	});
+
 	it('does not match clips of different scenes, even with the same walking rhythm', () => {
 		const sceneA = [...randomScene(100, 31, 4), ...footsteps(100, 0.55, 0.015, 32)].sort((x, y) => x.timeSeconds - y.timeSeconds);
 		const sceneB = [...randomScene(100, 33, 4), ...footsteps(100, 0.55, 0.015, 34)].sort((x, y) => x.timeSeconds - y.timeSeconds);

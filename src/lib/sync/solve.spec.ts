@@ -79,6 +79,21 @@ describe('solveSession', () => {
 		expect(solution.links.every((l) => l.used)).toBe(true);
 	});
 
+	it('gives drift 0 and says so for a clip placed only through a pair too short to measure drift', () => {
+		const truth: TrueClip[] = [
+			{ offsetSeconds: 0, driftPpm: 0 },
+			{ offsetSeconds: 12, driftPpm: 25 },
+			{ offsetSeconds: 30, driftPpm: 0 }
+		];
+		const links = [link(0, 1, truth, 40), link(1, 2, truth, 3, { driftMeasured: false, driftPpm: 0, driftStdPpm: Number.POSITIVE_INFINITY })];
+		const solution = solveSession(3, links, { referenceIndex: 0 });
+		expect(solution.clips[1]).toMatchObject({ matched: true, driftMeasured: true });
+		expect(solution.clips[2]).toMatchObject({ matched: true, driftMeasured: false, driftPpm: 0 });
+		// Its clock runs with the reference's here, so the measurement at u = 3 s places it exactly (computed).
+		expect(solution.clips[2].offsetSeconds).toBeCloseTo(30, 9);
+		expect(solution.clips[1].driftPpm).toBeCloseTo(25, 6);
+	});
+
 	it('leaves a clip without common sound off the timeline and picks the best-connected reference', () => {
 		const truth: TrueClip[] = [
 			{ offsetSeconds: 0, driftPpm: 0 },
