@@ -108,8 +108,8 @@ async function mapLimited<T, R>(items: T[], limit: number, work: (item: T, index
  * is bundled once into plain JavaScript, so each thread starts in milliseconds instead of loading a
  * TypeScript loader and compiling the sync modules again; without esbuild the .ts file is used.
  */
-async function workerFile(): Promise<{ url: string; cleanup: () => void }> {
-	const keep = { cleanup: () => {} };
+async function workerFile(): Promise<{ url: string; plainJavaScript: boolean; cleanup: () => void }> {
+	const keep = { plainJavaScript: true, cleanup: () => {} };
 	// Built from a variable so bundlers do not mistake it for an asset import.
 	const worker = './align-worker';
 	if (!import.meta.url.endsWith('.ts')) return { url: new URL(worker + '.js', import.meta.url).href, ...keep };
@@ -119,9 +119,9 @@ async function workerFile(): Promise<{ url: string; cleanup: () => void }> {
 		const dir = mkdtempSync(join(tmpdir(), 'lockstep-align-'));
 		const outfile = join(dir, 'align-worker.mjs');
 		await build({ entryPoints: [fileURLToPath(source)], bundle: true, format: 'esm', platform: 'node', target: 'node20', outfile, logLevel: 'silent' });
-		return { url: pathToFileURL(outfile).href, cleanup: () => rmSync(dir, { recursive: true, force: true }) };
+		return { url: pathToFileURL(outfile).href, plainJavaScript: true, cleanup: () => rmSync(dir, { recursive: true, force: true }) };
 	} catch {
-		return { url: source.href, ...keep };
+		return { url: source.href, plainJavaScript: false, cleanup: () => {} };
 	}
 }
 
@@ -149,7 +149,13 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 300);
 	const worker = usePool ? await workerFile() : null;
 	const pool = worker
-		? new Piscina<AlignTask, AlignTaskResult>({ filename: worker.url, maxThreads: concurrency, minThreads: concurrency })
+		? new Piscina<AlignTask, AlignTaskResult>({
+				filename: worker.url,
+				maxThreads: concurrency,
+				minThreads: concurrency,
+				// Plain JavaScript needs no TypeScript loader in the threads (they would inherit tsx's otherwise).
+				...(worker.plainJavaScript ? { execArgv: [] } : {})
+			})
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
 	const prepare = async (pcm: PcmTrack): Promise<AnalysisTrack> => {
