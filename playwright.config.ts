@@ -42,7 +42,11 @@ export default defineConfig({
 			DATABASE_URL: 'data/e2e/lockstep.db',
 			MEDIA_ROOT: 'data/e2e/media',
 			LOCAL_SMTP_PORT: '2626',
-			INSECURE_COOKIES: '1'
+			INSECURE_COOKIES: '1',
+			// Upload chunks stream through adapter-node, whose body limit is 512 KB unless raised;
+			// small chunks here make every fixture upload take several resumable PATCHes.
+			BODY_SIZE_LIMIT: 'Infinity',
+			UPLOAD_CHUNK_BYTES: '65536'
 		}
 	}
 });

@@ -178,10 +178,20 @@ const UPLOAD_ID = /^[0-9a-f]{32}$/;
 
 /**
  * Answers one tus request (POST creates; HEAD, PATCH and DELETE act on /api/uploads/<id>)
- * for a caller already allowed to write clips. Every request on an existing upload is
- * checked against the caller's workspace and the upload's capture session.
+ * for the caller `allow` lets through. Every request on an existing upload is checked
+ * against the caller's workspace and the upload's capture session.
  */
-export async function handleUploadRequest(event: Pick<RequestEvent, 'request' | 'params'>, allowed: Allowed): Promise<Response> {
+export async function handleUploadRequest(event: Pick<RequestEvent, 'request' | 'params'>, allow: () => Allowed): Promise<Response> {
+	try {
+		return await answerUpload(event, allow());
+	} catch (err) {
+		// Refused before its body was read: answered here so the connection can be closed.
+		if (isHttpError(err)) return refusal(event.request, err.status, err.body.code ?? 'refused', err.body.message);
+		throw err;
+	}
+}
+
+async function answerUpload(event: Pick<RequestEvent, 'request' | 'params'>, allowed: Allowed): Promise<Response> {
 	const { request } = event;
 	const method = request.method;
 	const rest = (event.params as { path?: string }).path ?? '';
@@ -189,12 +199,12 @@ export async function handleUploadRequest(event: Pick<RequestEvent, 'request' | 
 	const { server, store } = tusServer();
 
 	if (method === 'POST') {
-		if (rest !== '') return refusal(method, 404, 'not_found', 'Create uploads at /api/uploads.');
+		if (rest !== '') return refusal(request, 404, 'not_found', 'Create uploads at /api/uploads.');
 	} else {
 		const id = rest;
 		const upload = UPLOAD_ID.test(id) ? await store.configstore.get(id) : undefined;
 		if (!upload || upload.metadata?.workspaceId !== allowed.scope.workspaceId) {
-			return refusal(method, 404, 'not_found', 'No such upload in this workspace; start the upload again.');
+			return refusal(request, 404, 'not_found', 'No such upload in this workspace; start the upload again.');
 		}
 		allowed.scope.session(upload.metadata.sessionId ?? '');
 		const outcome = storedOutcome(upload);
@@ -208,7 +218,7 @@ export async function handleUploadRequest(event: Pick<RequestEvent, 'request' | 
 			const complete = upload.size !== undefined && received?.size === upload.size;
 			if (outcome || complete) {
 				const result = outcome ?? (await finishUpload(caller, upload).catch(() => null));
-				if (!result) return refusal(method, 410, 'gone', 'This upload could not be finished; start it again.');
+				if (!result) return refusal(request, 410, 'gone', 'This upload could not be finished; start it again.');
 				return new Response(null, {
 					status: 200,
 					headers: {
@@ -221,11 +231,11 @@ export async function handleUploadRequest(event: Pick<RequestEvent, 'request' | 
 				});
 			}
 		}
-		if (method === 'PATCH' && outcome) return refusal(method, 409, 'finished', 'This upload is already finished.');
+		if (method === 'PATCH' && outcome) return refusal(request, 409, 'finished', 'This upload is already finished.');
 	}
 
 	if (!request.headers.get('tus-resumable')) {
-		return refusal(method, 400, 'not_tus', 'This endpoint speaks the tus resumable-upload protocol (send "Tus-Resumable: 1.0.0"); use a tus client such as tus-js-client.');
+		return refusal(request, 400, 'not_tus', 'This endpoint speaks the tus resumable-upload protocol (send "Tus-Resumable: 1.0.0"); use a tus client such as tus-js-client.');
 	}
 	callers.set(request, caller);
 	return asJsonErrors(method, await server.handleWeb(request));
@@ -243,9 +253,11 @@ async function forget(id: string): Promise<void> {
 	await rm(join(uploadsDir(), `${id}.json`), { force: true });
 }
 
-function refusal(method: string, status: number, code: string, message: string): Response {
-	const headers = { 'Tus-Resumable': '1.0.0', 'Content-Type': 'application/json' };
-	return new Response(method === 'HEAD' ? null : JSON.stringify({ error: { code, message } }), { status, headers });
+function refusal(request: Request, status: number, code: string, message: string): Response {
+	const headers: Record<string, string> = { 'Tus-Resumable': '1.0.0', 'Content-Type': 'application/json' };
+	// A chunk we decline to read would otherwise be taken for the next request on this connection.
+	if (request.body && !request.bodyUsed) headers.Connection = 'close';
+	return new Response(request.method === 'HEAD' ? null : JSON.stringify({ error: { code, message } }), { status, headers });
 }
 
 /** tus answers errors in plain text; the API answers { error: { code, message } }, keeping tus's headers. */

@@ -10,7 +10,7 @@ import type { RequestHandler } from './$types';
  * says what became of the file. GET /api/uploads tells a client the limits.
  */
 
-const tus: RequestHandler = (event) => handleUploadRequest(event, requirePermission(event, 'clips:write'));
+const tus: RequestHandler = (event) => handleUploadRequest(event, () => requirePermission(event, 'clips:write'));
 
 export const POST = tus;
 export const HEAD = tus;
