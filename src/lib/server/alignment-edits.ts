@@ -116,15 +116,15 @@ export function describeRevision(revision: Pick<Revision, 'kind' | 'clipId' | 'f
 	const clipTo = to.clips?.find((c) => c.clipId === revision.clipId);
 	switch (revision.kind) {
 		case 'offset':
-			return `offset of ${label(revision.clipId)} from ${seconds6(clipFrom?.offsetSeconds)} to ${seconds6(clipTo?.offsetSeconds)}`;
+			return `changed the offset of ${label(revision.clipId)} from ${seconds6(clipFrom?.offsetSeconds)} to ${seconds6(clipTo?.offsetSeconds)}`;
 		case 'drift':
-			return `drift of ${label(revision.clipId)} from ${ppm(clipFrom?.driftPpm)} to ${ppm(clipTo?.driftPpm)}`;
+			return `changed the drift of ${label(revision.clipId)} from ${ppm(clipFrom?.driftPpm)} to ${ppm(clipTo?.driftPpm)}`;
 		case 'reference':
-			return `reference clip from ${label(from.referenceClipId)} to ${label(to.referenceClipId)} (offsets re-expressed)`;
+			return `changed the reference clip from ${label(from.referenceClipId)} to ${label(to.referenceClipId)} (offsets re-expressed)`;
 		case 'usable_span':
-			return `usable span from ${span(from.usableSpan)} to ${span(to.usableSpan)}`;
+			return `changed the usable span from ${span(from.usableSpan)} to ${span(to.usableSpan)}`;
 		case 'trim':
-			return `trim of ${label(revision.clipId)} from ${trim(clipFrom)} to ${trim(clipTo)}`;
+			return `changed the trim of ${label(revision.clipId)} from ${trim(clipFrom)} to ${trim(clipTo)}`;
 		case 'clip':
 			return `${clipTo?.locked ? 'locked' : 'unlocked'} ${label(revision.clipId)}`;
 		case 'revert':
@@ -134,7 +134,7 @@ export function describeRevision(revision: Pick<Revision, 'kind' | 'clipId' | 'f
 		case 'status': {
 			const f = revision.fromJson ? (JSON.parse(revision.fromJson) as { status?: string }) : {};
 			const t = revision.toJson ? (JSON.parse(revision.toJson) as { status?: string }) : {};
-			return `status from ${f.status ?? '?'} to ${t.status ?? '?'}`;
+			return `changed the status from ${f.status ?? '?'} to ${t.status ?? '?'}`;
 		}
 	}
 }
@@ -217,7 +217,7 @@ function conflictMessage(currentVersion: number, changes: RevisionView[]): strin
 	if (!latest) return `This capture session was changed elsewhere (now version ${currentVersion}). ${tail}`;
 	const time = new Date(latest.createdAt).toISOString().slice(11, 19);
 	const more = changes.length > 1 ? ` (and ${changes.length - 1} more change${changes.length > 2 ? 's' : ''})` : '';
-	return `${latest.who} changed the ${latest.summary} at ${time} UTC${more}; the session is now at version ${currentVersion}. ${tail}`;
+	return `${latest.who} ${latest.summary} at ${time} UTC${more}; the session is now at version ${currentVersion}. ${tail}`;
 }
 
 // ─── Writing ────────────────────────────────────────────────────────────────

@@ -275,7 +275,9 @@ export class WorkbenchState {
 		const body: unknown = await response.json().catch(() => null);
 		if (response.ok && body && typeof body === 'object' && 'session' in body) {
 			this.accept(body as WorkbenchData);
-			this.notice = { tone: 'ok', text: `Saved the ${outbound.label} (version ${this.session.version}).` };
+			const done = 'revertTo' in outbound ? 'Reverted to' : outbound.fromHistory === 'undo' ? 'Undid the' : outbound.fromHistory === 'redo' ? 'Redid the' : 'Saved the';
+			const what = 'revertTo' in outbound ? `version ${outbound.revertTo.sessionVersion}` : (outbound.undoable?.label ?? outbound.label);
+			this.notice = { tone: 'ok', text: `${done} ${what} (now version ${this.session.version}).` };
 			if ('edit' in outbound && outbound.undoable) {
 				if (outbound.fromHistory === 'undo') this.redoStack = [...this.redoStack, outbound.undoable];
 				else {

@@ -1,0 +1,205 @@
+import { expect, test, type APIRequestContext, type Page } from '@playwright/test';
+import { mkdirSync } from 'node:fs';
+import { signInAs } from './helpers';
+
+/*
+ * The alignment workbench on the demo session. Every test puts the timing back as it
+ * found it (offsets, drift, span), so later files see the demo session as seeded.
+ */
+
+const DEMO = 'Market Square fountain, lap 2';
+
+interface StoredClip {
+	id: string;
+	cameraLabel: string;
+	offsetSeconds: number;
+	driftPpm: number;
+	sampleRate: number;
+	frameRateNum: number;
+	frameRateDen: number;
+}
+interface Stored {
+	session: { id: string; version: number; usableStartSeconds: number; usableEndSeconds: number; referenceClipId: string };
+	clips: StoredClip[];
+}
+
+async function demoSessionId(request: APIRequestContext): Promise<string> {
+	const response = await request.get(`/api/sessions?q=${encodeURIComponent(DEMO)}`);
+	const { sessions } = (await response.json()) as { sessions: { id: string; name: string }[] };
+	const found = sessions.find((s) => s.name === DEMO);
+	expect(found, 'the demo session is seeded').toBeTruthy();
+	return found!.id;
+}
+
+async function stored(request: APIRequestContext, id: string): Promise<Stored> {
+	const response = await request.get(`/api/sessions/${id}`);
+	expect(response.ok()).toBe(true);
+	return (await response.json()) as Stored;
+}
+
+const clipNamed = (s: Stored, label: string) => s.clips.find((c) => c.cameraLabel === label)!;
+
+async function openWorkbench(page: Page, id: string) {
+	await page.goto(`/sessions/${id}/align`);
+	await expect(page.getByRole('heading', { name: 'Alignment workbench' })).toBeVisible();
+	await expect(page.getByTestId('lane')).toHaveCount(3);
+}
+
+async function waitSaved(page: Page) {
+	await expect(page.getByTestId('save-state')).toHaveText('All changes saved');
+}
+
+/** Puts offsets, drift and span back with the API (itself under test in the other specs). */
+async function restore(request: APIRequestContext, id: string, before: Stored) {
+	const now = await stored(request, id);
+	let version = now.session.version;
+	const send = async (edit: Record<string, unknown>) => {
+		const response = await request.post(`/api/sessions/${id}/alignment`, { data: { version, edit } });
+		expect(response.status(), await response.text()).toBe(200);
+		version = ((await response.json()) as Stored).session.version;
+	};
+	for (const clip of before.clips) {
+		const current = clipNamed(now, clip.cameraLabel);
+		if (current.offsetSeconds !== clip.offsetSeconds) await send({ kind: 'offset', clipId: clip.id, offsetSeconds: clip.offsetSeconds, reason: 'test clean-up' });
+		if (current.driftPpm !== clip.driftPpm) await send({ kind: 'drift', clipId: clip.id, driftPpm: clip.driftPpm, reason: 'test clean-up' });
+	}
+	if (now.session.usableStartSeconds !== before.session.usableStartSeconds || now.session.usableEndSeconds !== before.session.usableEndSeconds) {
+		await send({ kind: 'usable_span', startSeconds: before.session.usableStartSeconds, endSeconds: before.session.usableEndSeconds, reason: 'test clean-up' });
+	}
+}
+
+test('nudging by keyboard moves the stored offset by exactly one sample, one millisecond and one frame; undo takes it back', async ({ page }) => {
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	const mid = clipNamed(before, 'Rig mid');
+	await openWorkbench(page, id);
+	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
+
+	const steps: { key: string; seconds: number; what: string }[] = [
+		// One sample at the clip's own rate (48 kHz), 1 ms, one frame at 50/1 fps: 1/rate and den/num (common practice).
+		{ key: ']', seconds: 1 / mid.sampleRate, what: 'one sample' },
+		{ key: '.', seconds: 0.001, what: 'one millisecond' },
+		{ key: 'ArrowRight', seconds: mid.frameRateDen / mid.frameRateNum, what: 'one frame' }
+	];
+	let previous = mid.offsetSeconds;
+	for (const step of steps) {
+		await page.keyboard.press(step.key);
+		await expect(page.getByRole('status')).toContainText('Saved the offset of Rig mid');
+		await waitSaved(page);
+		const now = clipNamed(await stored(page.request, id), 'Rig mid').offsetSeconds;
+		expect(now - previous, step.what).toBeCloseTo(step.seconds, 12);
+		previous = now;
+	}
+	expect(mid.sampleRate).toBe(48000);
+
+	// Undo three times: the stored offset is the one we started from.
+	for (let i = 0; i < 3; i++) {
+		await page.keyboard.press('Control+z');
+		await waitSaved(page);
+	}
+	await expect(page.getByRole('status')).toContainText('Undid the offset of Rig mid');
+	expect(clipNamed(await stored(page.request, id), 'Rig mid').offsetSeconds).toBe(mid.offsetSeconds);
+	// And redo puts the last nudge back.
+	await page.keyboard.press('Control+Shift+z');
+	await waitSaved(page);
+	expect(clipNamed(await stored(page.request, id), 'Rig mid').offsetSeconds).toBeCloseTo(mid.offsetSeconds + 1 / 48000, 12);
+	await restore(page.request, id, before);
+});
+
+test('dragging the usable span handles stores the span shown', async ({ page }) => {
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	await openWorkbench(page, id);
+
+	for (const [name, dx] of [['Usable span start', 90], ['Usable span end', -120]] as const) {
+		const handle = page.getByRole('slider', { name });
+		const box = (await handle.boundingBox())!;
+		await page.mouse.move(box.x + box.width / 2, box.y + 30);
+		await page.mouse.down();
+		await page.mouse.move(box.x + box.width / 2 + dx / 2, box.y + 30, { steps: 4 });
+		await page.mouse.move(box.x + box.width / 2 + dx, box.y + 30, { steps: 4 });
+		await page.mouse.up();
+		await expect(page.getByRole('status')).toContainText('Saved the usable span');
+		await waitSaved(page);
+	}
+	const after = (await stored(page.request, id)).session;
+	expect(after.usableStartSeconds).toBeGreaterThan(before.session.usableStartSeconds + 1);
+	expect(after.usableEndSeconds).toBeLessThan(before.session.usableEndSeconds - 1);
+	await expect(page.getByTestId('usable-span-value')).toHaveText(`${after.usableStartSeconds.toFixed(3)}–${after.usableEndSeconds.toFixed(3)} s`);
+	await expect(page.getByRole('slider', { name: 'Usable span start' })).toHaveAttribute('aria-valuenow', String(after.usableStartSeconds));
+	await restore(page.request, id, before);
+});
+
+test('reverting to a revision restores the timing it had', async ({ page }) => {
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	const low = clipNamed(before, 'Rig low (housing)');
+	await openWorkbench(page, id);
+	await page.getByRole('button', { name: 'Work on Rig low (housing)' }).click();
+
+	await page.getByLabel('Drift (ppm)').fill('42.5');
+	await page.getByLabel('Reason (optional)').fill('trying a rounder drift');
+	await page.getByRole('button', { name: 'Set offset and drift' }).click();
+	await expect(page.getByRole('status')).toContainText('Saved the drift of Rig low (housing)');
+	expect(clipNamed(await stored(page.request, id), 'Rig low (housing)').driftPpm).toBe(42.5);
+	const latest = page.getByTestId('revision').first();
+	await expect(latest).toContainText('drift of Rig low (housing) from +30.97 ppm to +42.50 ppm');
+	await expect(latest).toContainText('trying a rounder drift');
+
+	await page.getByRole('button', { name: `Revert to v${before.session.version}` }).click();
+	await expect(page.getByRole('status')).toContainText(`Reverted to version ${before.session.version}`);
+	await expect(page.getByTestId('revision').first()).toContainText(`reverted to version ${before.session.version}`);
+	const after = await stored(page.request, id);
+	expect(clipNamed(after, 'Rig low (housing)').driftPpm).toBe(low.driftPpm);
+	expect(after.session.version).toBe(before.session.version + 2);
+	await restore(page.request, id, before);
+});
+
+test('a reviewer sees the workbench read-only and a crafted change is refused', async ({ page }) => {
+	await signInAs(page, 'reviewer');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	await openWorkbench(page, id);
+	await expect(page.getByTestId('read-only')).toContainText('Read-only');
+	await expect(page.getByRole('button', { name: 'Undo' })).toHaveCount(0);
+	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
+	await expect(page.getByRole('button', { name: 'Nudge later by 1 frame' })).toBeDisabled();
+	await page.keyboard.press('ArrowRight');
+
+	const mid = clipNamed(before, 'Rig mid');
+	const crafted = await page.request.post(`/api/sessions/${id}/alignment`, {
+		data: { version: before.session.version, edit: { kind: 'offset', clipId: mid.id, offsetSeconds: mid.offsetSeconds + 0.5 } }
+	});
+	expect(crafted.status()).toBe(403);
+	expect(((await crafted.json()) as { error: { code: string } }).error.code).toBe('forbidden');
+	const revert = await page.request.post(`/api/sessions/${id}/revisions/whatever-id/revert`, { data: { version: before.session.version } });
+	expect(revert.status()).toBe(403);
+	const after = await stored(page.request, id);
+	expect(clipNamed(after, 'Rig mid').offsetSeconds).toBe(mid.offsetSeconds);
+	expect(after.session.version).toBe(before.session.version);
+});
+
+test('screenshots of the workbench with the demo session', async ({ page }) => {
+	mkdirSync('screens', { recursive: true });
+	await page.setViewportSize({ width: 1600, height: 1100 });
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	await openWorkbench(page, id);
+	await page.waitForTimeout(1200);
+	await page.screenshot({ path: 'screens/workbench-whole-session-light.png', fullPage: true });
+	await page.emulateMedia({ colorScheme: 'dark' });
+	await page.waitForTimeout(300);
+	await page.screenshot({ path: 'screens/workbench-whole-session-dark.png', fullPage: true });
+	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
+	await page.getByRole('button', { name: 'Show drift fit' }).click();
+	await expect(page.getByTestId('drift-plot').locator('canvas')).toBeVisible();
+	for (let i = 0; i < 6; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
+	await page.waitForTimeout(1200);
+	await page.screenshot({ path: 'screens/workbench-zoomed-drift-fit.png', fullPage: true });
+	for (let i = 0; i < 10; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
+	await page.waitForTimeout(1200);
+	await page.screenshot({ path: 'screens/workbench-deep-zoom.png' });
+});
