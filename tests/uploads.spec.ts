@@ -1,7 +1,8 @@
 import { expect, test, type Page } from '@playwright/test';
-import { readFileSync } from 'node:fs';
+import { spawn, type ChildProcess } from 'node:child_process';
+import { mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
-import { PEOPLE, signInAs } from './helpers';
+import { PEOPLE, e2eDatabase, signInAs } from './helpers';
 import { TUS, cookieHeader, cutPatch, sha256, tusCreate, tusHead, tusPatch, tusUpload } from './tus';
 
 /*
@@ -214,4 +215,86 @@ test('uploads check the role, the workspace and the session on every request', a
 	const plain = await page.request.post('/api/uploads', { data: { sessionId } });
 	expect(plain.status()).toBe(400);
 	expect((await plain.json()).error.code).toBe('not_tus');
+});
+
+test('an upload resumes after the server restarts', async ({ baseURL }) => {
+	test.setTimeout(120_000);
+	// A second server of the same build, on a copy of the test database and its own media folder.
+	const dir = 'data/e2e-restart';
+	rmSync(dir, { recursive: true, force: true });
+	mkdirSync(dir, { recursive: true });
+	const source = e2eDatabase();
+	await source.backup(join(dir, 'lockstep.db'));
+	source.close();
+	const port = Number(new URL(baseURL!).port) + 17;
+	const base = `http://127.0.0.1:${port}`;
+	const env = {
+		...process.env,
+		PORT: String(port),
+		HOST: '127.0.0.1',
+		ORIGIN: base,
+		DATABASE_URL: join(dir, 'lockstep.db'),
+		MEDIA_ROOT: join(dir, 'media'),
+		LOCAL_SMTP_PORT: String(port + 1),
+		INSECURE_COOKIES: '1',
+		BODY_SIZE_LIMIT: 'Infinity'
+	};
+	let server: ChildProcess | null = null;
+	const start = async () => {
+		server = spawn('node', ['build'], { env, stdio: 'ignore' });
+		await expect.poll(() => fetch(`${base}/login`).then((r) => r.status, () => 0), { timeout: 30_000 }).toBe(200);
+	};
+	const stop = async () => {
+		const running = server;
+		if (!running || running.exitCode !== null) return;
+		const exited = new Promise((resolve) => running.once('exit', resolve));
+		running.kill('SIGKILL');
+		await exited;
+	};
+
+	try {
+		await start();
+		const signIn = await fetch(`${base}/login`, {
+			method: 'POST',
+			redirect: 'manual',
+			headers: { origin: base, accept: 'text/html', 'content-type': 'application/x-www-form-urlencoded' },
+			body: new URLSearchParams({ email: PEOPLE.editor.email, password: PEOPLE.editor.password })
+		});
+		expect(signIn.status).toBe(303);
+		const cookie = signIn.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ');
+		const call = (path: string, init: RequestInit = {}) => fetch(`${base}${path}`, { ...init, headers: { cookie, ...TUS, ...init.headers } });
+
+		const created = await call('/api/sessions', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ name: 'Restart', site: 'Bench' }) });
+		const sessionId = (await created.json()).session.id;
+		const bytes = readFileSync(HIGH);
+		const upload = await call('/api/uploads', {
+			method: 'POST',
+			headers: { 'upload-length': String(bytes.length), 'upload-metadata': `sessionId ${Buffer.from(sessionId).toString('base64')},filename ${Buffer.from('cam-high-5994.mp4').toString('base64')}` }
+		});
+		expect(upload.status).toBe(201);
+		const location = upload.headers.get('location')!;
+		await cutPatch(base, cookie, location, bytes, Math.floor(bytes.length / 2));
+
+		// The server dies without warning and comes back.
+		await stop();
+		await start();
+
+		const head = await call(location, { method: 'HEAD' });
+		expect(head.status).toBe(200);
+		const offset = Number(head.headers.get('upload-offset'));
+		expect(offset).toBeGreaterThan(0);
+		const rest = await call(location, {
+			method: 'PATCH',
+			headers: { 'upload-offset': String(offset), 'content-type': 'application/offset+octet-stream' },
+			body: bytes.subarray(offset)
+		});
+		expect(rest.status).toBe(200);
+		const { outcome } = await rest.json();
+		expect(outcome).toMatchObject({ kind: 'added', clip: { sha256: sha256(bytes) } });
+		const stored = readFileSync(join(dir, 'media/originals', outcome.clip.workspaceId, outcome.clip.sha256, 'cam-high-5994.mp4'));
+		expect(stored.equals(bytes)).toBe(true);
+	} finally {
+		await stop();
+		rmSync(dir, { recursive: true, force: true });
+	}
 });
