@@ -134,6 +134,9 @@ export function solveSession(clipCount: number, links: ClipLink[], options: Solv
 	const rejectResidual = options.rejectResidualSeconds ?? 2e-3;
 	const notes: string[] = [];
 	let active = links.filter((l) => l.estimate.matched && Number.isFinite(l.estimate.offsetAtReferenceSeconds));
+	if (active.length > 0 && !active.some((l) => l.a === referenceIndex || l.b === referenceIndex)) {
+		notes.push(`the reference (clip ${referenceIndex}) shares no sound with the others, so none of them can be placed`);
+	}
 
 	for (;;) {
 		const placed = componentOf(referenceIndex, active);
@@ -205,7 +208,8 @@ export function solveSession(clipCount: number, links: ClipLink[], options: Solv
 				offsetSeconds: offset[i],
 				driftPpm: (rate[i] - 1) * 1e6,
 				driftMeasured: i === referenceIndex || slopeComponent.has(i),
-				confidence: usedConfidence.length ? Math.max(...usedConfidence) : 1
+				// The reference alone on its timeline is certain only when it is the only clip.
+				confidence: usedConfidence.length ? Math.max(...usedConfidence) : clipCount === 1 ? 1 : 0
 			};
 		});
 		const usedResiduals = residuals.filter((r) => r.used).map((r) => Math.abs(r.offsetResidualMs));
