@@ -194,7 +194,7 @@ export async function handleUploadRequest(event: Pick<RequestEvent, 'request' | 
 async function answerUpload(event: Pick<RequestEvent, 'request' | 'params'>, allowed: Allowed): Promise<Response> {
 	const { request } = event;
 	const method = request.method;
-	const rest = (event.params as { path?: string }).path ?? '';
+	const rest = event.params.path ?? '';
 	const caller: Caller = { scope: allowed.scope, userId: allowed.userId };
 	const { server, store } = tusServer();
 
