@@ -65,7 +65,45 @@ const adminOnly: Record<Persona, Outcome> = {
 const editorProbe: Record<Persona, Outcome> = { ...editorOnly, editor: 'hidden', outsider: 'hidden' };
 const readProbe: Record<Persona, Outcome> = { ...signedIn, admin: 'hidden', editor: 'hidden', reviewer: 'hidden', processor: 'hidden', outsider: 'hidden' };
 
+const hiddenForAll: Record<Persona, Outcome> = {
+	anon: 'hidden',
+	admin: 'hidden',
+	editor: 'hidden',
+	reviewer: 'hidden',
+	processor: 'hidden',
+	outsider: 'hidden'
+};
+
 export const ROUTE_RULES: RouteRule[] = [
+	// Administration (admin only)
+	{ route: '/admin/people', method: 'GET', path: '/admin/people', expect: adminOnly },
+	...['invite', 'role', 'deactivate', 'reactivate', 'remove', 'withdraw'].map((a) => ({ route: '/admin/people', method: `POST ?/${a}`, path: `/admin/people?/${a}`, body: 'form' as const, expect: adminOnly })),
+	{ route: '/admin/tokens', method: 'GET', path: '/admin/tokens', expect: adminOnly },
+	...['create', 'revoke'].map((a) => ({ route: '/admin/tokens', method: `POST ?/${a}`, path: `/admin/tokens?/${a}`, body: 'form' as const, expect: adminOnly })),
+	{ route: '/admin/imports', method: 'GET', path: '/admin/imports', expect: adminOnly },
+	...['add', 'remove'].map((a) => ({ route: '/admin/imports', method: `POST ?/${a}`, path: `/admin/imports?/${a}`, body: 'form' as const, expect: adminOnly })),
+	{ route: '/admin/outbox', method: 'GET', path: '/admin/outbox', expect: adminOnly },
+	{ route: '/admin/outbox/[id=id]', method: 'GET', path: '/admin/outbox/no-such-mail', expect: { ...adminOnly, admin: 'hidden' } },
+	{ route: '/forgot', method: 'GET', path: '/forgot', expect: everyone },
+	{ route: '/forgot', method: 'POST', path: '/forgot', body: 'form', expect: everyone },
+	{ route: '/invite/[token]', method: 'GET', path: '/invite/no-such-token', expect: hiddenForAll },
+	{ route: '/invite/[token]', method: 'POST', path: '/invite/no-such-token', body: 'form', expect: hiddenForAll },
+	{ route: '/reset/[token]', method: 'GET', path: '/reset/no-such-token', expect: hiddenForAll },
+	{ route: '/reset/[token]', method: 'POST', path: '/reset/no-such-token', body: 'form', expect: hiddenForAll },
+	{ route: '/api/admin/people', method: 'GET', path: '/api/admin/people', expect: adminOnly },
+	{ route: '/api/admin/people/[id=id]', method: 'PATCH', path: '/api/admin/people/no-such-person', body: 'json', expect: adminOnly },
+	{ route: '/api/admin/people/[id=id]', method: 'DELETE', path: '/api/admin/people/no-such-person', expect: { ...adminOnly, admin: 'hidden' } },
+	{ route: '/api/admin/invitations', method: 'GET', path: '/api/admin/invitations', expect: adminOnly },
+	{ route: '/api/admin/invitations', method: 'POST', path: '/api/admin/invitations', body: 'json', expect: adminOnly },
+	{ route: '/api/admin/invitations/[id=id]', method: 'DELETE', path: '/api/admin/invitations/no-such-invite', expect: { ...adminOnly, admin: 'hidden' } },
+	{ route: '/api/admin/tokens', method: 'GET', path: '/api/admin/tokens', expect: adminOnly },
+	{ route: '/api/admin/tokens', method: 'POST', path: '/api/admin/tokens', body: 'json', expect: adminOnly },
+	{ route: '/api/admin/tokens/[id=id]', method: 'DELETE', path: '/api/admin/tokens/no-such-token', expect: { ...adminOnly, admin: 'hidden' } },
+	{ route: '/api/admin/imports', method: 'GET', path: '/api/admin/imports', expect: adminOnly },
+	{ route: '/api/admin/imports', method: 'POST', path: '/api/admin/imports', body: 'json', expect: adminOnly },
+	{ route: '/api/admin/imports/[id=id]', method: 'DELETE', path: '/api/admin/imports/no-such-root', expect: { ...adminOnly, admin: 'hidden' } },
+	{ route: '/api/admin/outbox', method: 'GET', path: '/api/admin/outbox', expect: adminOnly },
+	{ route: '/api/admin/outbox/[id=id]', method: 'GET', path: '/api/admin/outbox/no-such-mail', expect: { ...adminOnly, admin: 'hidden' } },
 	{ route: '/sessions/[id=id]', method: 'POST ?/align', path: '/sessions/{session}?/align', body: 'form', expect: editorOfSession },
 	{ route: '/sessions/[id=id]', method: 'POST ?/clip', path: '/sessions/{session}?/clip', body: 'form', expect: editorOfSession },
 	{ route: '/sessions/[id=id]', method: 'POST ?/cancelJob', path: '/sessions/{session}?/cancelJob', body: 'form', expect: editorOfSession },
