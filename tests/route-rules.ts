@@ -75,6 +75,7 @@ const hiddenForAll: Record<Persona, Outcome> = {
 };
 
 export const ROUTE_RULES: RouteRule[] = [
+	{ route: '/api/openapi.json', method: 'GET', path: '/api/openapi.json', expect: everyone },
 	// Administration (admin only)
 	{ route: '/admin/people', method: 'GET', path: '/admin/people', expect: adminOnly },
 	...['invite', 'role', 'deactivate', 'reactivate', 'remove', 'withdraw'].map((a) => ({ route: '/admin/people', method: `POST ?/${a}`, path: `/admin/people?/${a}`, body: 'form' as const, expect: adminOnly })),

@@ -1,12 +1,14 @@
 import { error, json } from '@sveltejs/kit';
 import { editSession, sessionWithClips, VersionConflict } from '$lib/server/capture-sessions';
+import { publicClip } from '$lib/server/clips';
 import { requirePermission } from '$lib/server/guard';
 import { SessionEditFields } from '$lib/validation/session';
 import type { RequestHandler } from './$types';
 
 export const GET: RequestHandler = (event) => {
 	const { scope } = requirePermission(event, 'sessions:read');
-	return json(sessionWithClips(scope, event.params.id));
+	const { session, clips } = sessionWithClips(scope, event.params.id);
+	return json({ session, clips: clips.map(publicClip) });
 };
 
 export const PATCH: RequestHandler = async (event) => {
