@@ -1,4 +1,4 @@
-import { count, desc, eq, isNull, like, or, type SQL } from 'drizzle-orm';
+import { count, desc, eq, gte, isNull, like, lte, or, type SQL } from 'drizzle-orm';
 import { db } from './db';
 import { captureSessions, clips, type SessionStatus } from './db/schema';
 import { newId } from './ids';
@@ -7,6 +7,9 @@ import type { WorkspaceScope } from './scope';
 export interface SessionFilters {
 	search?: string;
 	status?: SessionStatus;
+	/** Capture dates as YYYY-MM-DD, inclusive. */
+	capturedFrom?: string;
+	capturedTo?: string;
 	includeArchived?: boolean;
 }
 
@@ -14,6 +17,8 @@ export function listSessions(scope: WorkspaceScope, filters: SessionFilters = {}
 	const conditions: (SQL | undefined)[] = [];
 	if (!filters.includeArchived) conditions.push(isNull(captureSessions.archivedAt));
 	if (filters.status) conditions.push(eq(captureSessions.status, filters.status));
+	if (filters.capturedFrom) conditions.push(gte(captureSessions.captureDate, filters.capturedFrom));
+	if (filters.capturedTo) conditions.push(lte(captureSessions.captureDate, filters.capturedTo));
 	if (filters.search) {
 		const pattern = `%${filters.search.replace(/[%_]/g, (c) => '\\' + c)}%`;
 		conditions.push(or(like(captureSessions.name, pattern), like(captureSessions.site, pattern)));
@@ -25,6 +30,7 @@ export function listSessions(scope: WorkspaceScope, filters: SessionFilters = {}
 			site: captureSessions.site,
 			captureDate: captureSessions.captureDate,
 			status: captureSessions.status,
+			archivedAt: captureSessions.archivedAt,
 			updatedAt: captureSessions.updatedAt,
 			clipCount: count(clips.id)
 		})
