@@ -65,6 +65,9 @@ const adminOnly: Record<Persona, Outcome> = {
 const editorProbe: Record<Persona, Outcome> = { ...editorOnly, editor: 'hidden', outsider: 'hidden' };
 const readProbe: Record<Persona, Outcome> = { ...signedIn, admin: 'hidden', editor: 'hidden', reviewer: 'hidden', processor: 'hidden', outsider: 'hidden' };
 
+/** A reviewer of the session's workspace; the outsider (an editor elsewhere) is refused by role before any lookup. */
+const reviewerOfSession: Record<Persona, Outcome> = { anon: 'login', admin: 'deny', editor: 'deny', reviewer: 'allow', processor: 'deny', outsider: 'deny' };
+
 const hiddenForAll: Record<Persona, Outcome> = {
 	anon: 'hidden',
 	admin: 'hidden',
@@ -151,7 +154,18 @@ export const ROUTE_RULES: RouteRule[] = [
 	{ route: '/api/sessions/[id=id]/revisions/[revision=id]/revert', method: 'POST', path: '/api/sessions/{session}/revisions/no-such-revision/revert', body: 'json', expect: editorOfSession },
 	// Timing table: everyone of the workspace previews it; only a processor takes files away.
 	{ route: '/sessions/[id=id]/export', method: 'GET', path: '/sessions/{session}/export', expect: readSession },
-	{ route: '/api/sessions/[id=id]/timing-table', method: 'GET', path: '/api/sessions/{session}/timing-table?format=csv', expect: { anon: 'login', admin: 'deny', editor: 'deny', reviewer: 'deny', processor: 'allow', outsider: 'deny' } }
+	{ route: '/api/sessions/[id=id]/timing-table', method: 'GET', path: '/api/sessions/{session}/timing-table?format=csv', expect: { anon: 'login', admin: 'deny', editor: 'deny', reviewer: 'deny', processor: 'allow', outsider: 'deny' } },
+	// Review: everyone of the workspace reads it; an editor sends for review; a reviewer checks and decides.
+	{ route: '/sessions/[id=id]/review', method: 'GET', path: '/sessions/{session}/review', expect: readSession },
+	{ route: '/sessions/[id=id]/review', method: 'POST ?/send', path: '/sessions/{session}/review?/send', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]/review', method: 'POST ?/check', path: '/sessions/{session}/review?/check', body: 'form', expect: reviewerOfSession },
+	{ route: '/sessions/[id=id]/review', method: 'POST ?/decide', path: '/sessions/{session}/review?/decide', body: 'form', expect: reviewerOfSession },
+	{ route: '/api/sessions/[id=id]/review', method: 'GET', path: '/api/sessions/{session}/review', expect: readSession },
+	{ route: '/api/sessions/[id=id]/review/send', method: 'POST', path: '/api/sessions/{session}/review/send', body: 'json', expect: editorOfSession },
+	{ route: '/api/sessions/[id=id]/review/checks', method: 'POST', path: '/api/sessions/{session}/review/checks', body: 'json', expect: reviewerOfSession },
+	{ route: '/api/sessions/[id=id]/review/decision', method: 'POST', path: '/api/sessions/{session}/review/decision', body: 'json', expect: reviewerOfSession },
+	{ route: '/api/sessions/[id=id]/review/marked-event', method: 'GET', path: '/api/sessions/{session}/review/marked-event', expect: readSession },
+	{ route: '/api/clips/[id=id]/frames/[frame]', method: 'GET', path: '/api/clips/no-such-clip/frames/0', expect: readProbe }
 ];
 
 export const ADMIN_ONLY = adminOnly;

@@ -1,0 +1,418 @@
+import { and, desc, eq, inArray, isNotNull } from 'drizzle-orm';
+import { z } from 'zod';
+import { buildTimingTable, type TableRow, type TimingTable } from '$lib/sync/timing-table';
+import { MarkedEventError, markedEventEstimate, type MarkedEventEstimate } from '$lib/sync/marked-event';
+import { activityOfSession, recordActivity } from './activity';
+import { db } from './db';
+import { captureSessions, memberships, revisions, reviewDecisions, spotChecks, users, type CaptureSession } from './db/schema';
+import { timingTableOf, type TimingTableResult } from './exports';
+import { newId } from './ids';
+import { sendMail } from './mail';
+import { parseInput, Refusal } from './refusal';
+import type { WorkspaceScope } from './scope';
+
+/*
+ * The review of a capture session (DESIGN.md, "Session states"): an editor sends an aligned
+ * session for review; a reviewer spot-checks instants and then approves it or sends it back
+ * to aligned with notes. Each step checks the state it starts from inside its transaction,
+ * names the session version it was based on, leaves a status revision and an activity entry,
+ * and then tells people by e-mail. The timing's version does not move: a status is not timing.
+ */
+
+// ─── Input ──────────────────────────────────────────────────────────────────
+
+const version = z.number('Send the session version you looked at (version).').int().positive();
+const note = (max: number) => z.string().trim().max(max, `Keep the note under ${max} characters.`).default('');
+
+export const SendForReview = z.object({ version, note: note(2000) });
+export const SpotCheckInput = z
+	.object({
+		version,
+		instantSeconds: z.number('Give the instant in session seconds (instantSeconds).').finite(),
+		verdict: z.enum(['in_sync', 'off', 'cannot_tell'], 'Give a verdict: in_sync, off or cannot_tell.'),
+		offByFrames: z.number('Give "off by" as a number of frames.').min(-1000).max(1000).nullable().default(null),
+		note: note(2000)
+	})
+	.refine((c) => c.verdict !== 'off' || (c.offByFrames !== null && c.offByFrames !== 0), {
+		message: 'Say by about how many frames it is off (offByFrames, not 0).'
+	});
+export const ReviewDecisionInput = z
+	.object({ version, decision: z.enum(['approve', 'send_back'], 'Decide approve or send_back.'), note: note(4000) })
+	.refine((d) => d.decision !== 'send_back' || d.note.length > 0, { message: 'Say what the editor should look at when you send a session back (note).' });
+
+export type SpotCheckFields = z.input<typeof SpotCheckInput>;
+
+// ─── Reading ────────────────────────────────────────────────────────────────
+
+export interface SpotCheckView {
+	id: string;
+	sessionVersion: number;
+	instantSeconds: number;
+	verdict: 'in_sync' | 'off' | 'cannot_tell';
+	offByFrames: number | null;
+	note: string;
+	who: string;
+	createdAt: number;
+}
+
+export interface DecisionView {
+	id: string;
+	sessionVersion: number;
+	decision: 'approve' | 'send_back';
+	note: string;
+	who: string;
+	createdAt: number;
+}
+
+export function spotChecksOf(scope: WorkspaceScope, sessionId: string): SpotCheckView[] {
+	return db
+		.select({ check: spotChecks, who: users.displayName })
+		.from(spotChecks)
+		.leftJoin(users, eq(users.id, spotChecks.reviewerId))
+		.where(scope.where(spotChecks, eq(spotChecks.sessionId, sessionId)))
+		.orderBy(desc(spotChecks.createdAt))
+		.all()
+		.map(({ check, who }) => ({
+			id: check.id,
+			sessionVersion: check.sessionVersion,
+			instantSeconds: check.instantSeconds,
+			verdict: check.verdict,
+			offByFrames: check.offByFrames,
+			note: check.note,
+			who: who ?? 'an API token',
+			createdAt: check.createdAt.getTime()
+		}));
+}
+
+export function decisionsOf(scope: WorkspaceScope, sessionId: string): DecisionView[] {
+	return db
+		.select({ decision: reviewDecisions, who: users.displayName })
+		.from(reviewDecisions)
+		.leftJoin(users, eq(users.id, reviewDecisions.reviewerId))
+		.where(scope.where(reviewDecisions, eq(reviewDecisions.sessionId, sessionId)))
+		.orderBy(desc(reviewDecisions.createdAt))
+		.all()
+		.map(({ decision, who }) => ({
+			id: decision.id,
+			sessionVersion: decision.sessionVersion,
+			decision: decision.decision,
+			note: decision.note,
+			who: who ?? 'an API token',
+			createdAt: decision.createdAt.getTime()
+		}));
+}
+
+/** The session's review as everyone of the workspace may read it. */
+export function reviewOf(scope: WorkspaceScope, sessionId: string) {
+	const session = scope.session(sessionId);
+	const decisions = decisionsOf(scope, sessionId);
+	const approval = session.status === 'approved' ? (decisions.find((d) => d.decision === 'approve' && d.sessionVersion === session.version) ?? null) : null;
+	return {
+		session: {
+			id: session.id,
+			name: session.name,
+			status: session.status,
+			version: session.version,
+			referenceClipId: session.referenceClipId,
+			usableSpan:
+				session.usableStartSeconds !== null && session.usableEndSeconds !== null ? { startSeconds: session.usableStartSeconds, endSeconds: session.usableEndSeconds } : null
+		},
+		approval,
+		spotChecks: spotChecksOf(scope, sessionId),
+		decisions,
+		activity: activityOfSession(scope, sessionId, 30).map((a) => ({ ...a, createdAt: a.createdAt.getTime() }))
+	};
+}
+export type ReviewState = ReturnType<typeof reviewOf>;
+
+// ─── Instants to check ──────────────────────────────────────────────────────
+
+export type InstantPick = { kind: 'count'; count: number } | { kind: 'at'; seconds: number };
+
+export const InstantQuery = z.union([
+	z.object({ count: z.coerce.number('count must be a number.').int('count must be a whole number.').min(1, 'Ask for at least one instant.').max(24, 'Ask for at most 24 instants at a time.') }),
+	z.object({ at: z.coerce.number('at must be a session time in seconds.').finite() })
+]);
+
+export function instantPickOf(params: URLSearchParams): InstantPick | null {
+	if (!params.has('count') && !params.has('at')) return null;
+	const raw = params.has('at') && params.get('at') !== '' ? { at: params.get('at') } : { count: params.get('count') };
+	const parsed = parseInput(InstantQuery, raw);
+	return 'at' in parsed ? { kind: 'at', seconds: parsed.at } : { kind: 'count', count: parsed.count };
+}
+
+export interface ReviewCamera {
+	id: string;
+	label: string;
+	position: 'high' | 'mid' | 'low' | 'other';
+	isReference: boolean;
+	fps: number;
+	frameCount: number;
+}
+
+export interface ReviewInstants {
+	usableSpan: { startSeconds: number; endSeconds: number };
+	toleranceMs: number;
+	cameras: ReviewCamera[];
+	rows: TableRow[];
+}
+
+function camerasOf(table: TimingTable): ReviewCamera[] {
+	return table.clips.map((c) => ({ id: c.id, label: c.label, position: c.position, isReference: c.isReference, fps: c.frameRate.fps, frameCount: c.frameCount }));
+}
+
+/**
+ * Each camera's nearest frame (timecode and residual) at N instants spread across the usable
+ * span, or at one typed session time: the timing table's own arithmetic, so the review sees
+ * exactly what the export will write.
+ */
+export async function reviewInstants(scope: WorkspaceScope, sessionId: string, pick: InstantPick): Promise<ReviewInstants> {
+	const spread = pick.kind === 'count' ? pick.count : 1;
+	const result: TimingTableResult = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: spread }, cameras: null, toleranceMs: null });
+	let table = result.table;
+	if (pick.kind === 'at') {
+		// One instant: a span a microsecond wide around it, whose single instant is its middle.
+		table = buildTimingTable({
+			session: result.table.session,
+			usableSpan: { startSeconds: pick.seconds - 5e-7, endSeconds: pick.seconds + 5e-7 },
+			clips: result.inputs,
+			instants: { kind: 'count', count: 1 }
+		});
+		table.rows = table.rows.map((row) => ({ ...row, sessionSeconds: pick.seconds }));
+	}
+	return { usableSpan: result.table.usableSpan, toleranceMs: result.table.toleranceMs, cameras: camerasOf(result.table), rows: table.rows };
+}
+
+// ─── The marked-event check ─────────────────────────────────────────────────
+
+export const MarkQuery = z
+	.array(
+		z
+			.string()
+			.regex(/^[A-Za-z0-9_-]+:\d+$/, 'Give each mark as clipId:frame.')
+			.transform((s) => {
+				const [clipId, frame] = s.split(':');
+				return { clipId, frame: Number(frame) };
+			}),
+		'Give each mark as clipId:frame.'
+	)
+	.min(2, 'Mark the event in at least two cameras (mark=clipId:frame, twice or more).')
+	.max(16);
+
+/** The offsets implied by one visible event marked in several cameras, against the audio result. */
+export async function markedEventOf(scope: WorkspaceScope, sessionId: string, marks: { clipId: string; frame: number }[]): Promise<MarkedEventEstimate> {
+	const result = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: 1 }, cameras: null, toleranceMs: null });
+	const inputs = marks.map((mark) => {
+		const input = result.inputs.find((i) => i.id === mark.clipId);
+		if (!input) throw new Refusal('unknown_camera', `No aligned camera ${mark.clipId} in this capture session.`, 400);
+		return { clipId: input.id, clip: { placement: input.placement, frames: input.frames }, frameRate: input.frameRate, frame: mark.frame };
+	});
+	try {
+		return markedEventEstimate(inputs, result.session.referenceClipId);
+	} catch (e) {
+		if (e instanceof MarkedEventError) throw new Refusal(e.code, e.message, 400);
+		throw e;
+	}
+}
+
+// ─── Changing state ─────────────────────────────────────────────────────────
+
+const STATUS_WORDS: Record<CaptureSession['status'], string> = { draft: 'a draft', aligned: 'aligned', in_review: 'in review', approved: 'approved' };
+
+function requireState(session: CaptureSession, wanted: CaptureSession['status'], doing: string): void {
+	if (session.status !== wanted) {
+		const hint =
+			wanted === 'in_review'
+				? session.status === 'aligned'
+					? ' An editor sends it for review first.'
+					: ''
+				: wanted === 'aligned' && session.status === 'draft'
+					? ' Align it first.'
+					: '';
+		throw new Refusal('wrong_state', `This capture session is ${STATUS_WORDS[session.status]}; you can only ${doing} a session that is ${STATUS_WORDS[wanted]}.${hint}`, 409);
+	}
+}
+
+function requireVersion(session: CaptureSession, version: number): void {
+	if (session.version !== version) {
+		throw new Refusal(
+			'version_conflict',
+			`The timing changed since you looked (you saw revision ${version}, it is now revision ${session.version}). Reload and check again.`,
+			409
+		);
+	}
+}
+
+/** Moves the status inside a transaction that has already checked it; records the status revision. */
+function moveStatus(scope: WorkspaceScope, session: CaptureSession, to: CaptureSession['status'], userId: string | null, reason: string): void {
+	const updated = db
+		.update(captureSessions)
+		.set({ status: to, updatedAt: new Date() })
+		.where(scope.where(captureSessions, eq(captureSessions.id, session.id), eq(captureSessions.status, session.status), eq(captureSessions.version, session.version)))
+		.run();
+	if (updated.changes === 0) throw new Refusal('version_conflict', 'Somebody changed this capture session at the same moment. Reload and try again.', 409);
+	db.insert(revisions)
+		.values({
+			id: newId(),
+			workspaceId: scope.workspaceId,
+			sessionId: session.id,
+			sessionVersion: session.version,
+			userId,
+			kind: 'status',
+			fromJson: JSON.stringify({ status: session.status }),
+			toJson: JSON.stringify({ status: to }),
+			reason
+		})
+		.run();
+}
+
+export interface Actor {
+	userId: string | null;
+	/** Display name for messages: the person, or "An API token". */
+	name: string;
+}
+
+export function actorOf(userId: string | null): Actor {
+	if (!userId) return { userId: null, name: 'An API token' };
+	const row = db.select({ displayName: users.displayName }).from(users).where(eq(users.id, userId)).get();
+	return { userId, name: row?.displayName ?? 'Somebody' };
+}
+
+/** Editor: aligned → in review. */
+export async function sendForReview(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown, origin: string) {
+	const { version: seen, note: text } = parseInput(SendForReview, input);
+	const session = db.transaction(() => {
+		const session = scope.session(sessionId);
+		requireState(session, 'aligned', 'send for review');
+		requireVersion(session, seen);
+		if (session.usableStartSeconds === null || session.usableEndSeconds === null) {
+			throw new Refusal('no_usable_span', 'Mark the usable span on the workbench before sending this session for review.', 409);
+		}
+		moveStatus(scope, session, 'in_review', actor.userId, text || 'Sent for review.');
+		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'review_requested', message: `sent revision ${session.version} for review${text ? `: “${text}”` : ''}` });
+		return session;
+	});
+	const reviewers = membersWithRole(scope, 'reviewer');
+	await mailEach(scope, reviewers, `Ready for review: ${session.name}`, [
+		`${actor.name} sent “${session.name}” (revision ${session.version}) for review.`,
+		text ? `\nNote: ${text}\n` : '',
+		`Spot-check it here: ${origin}/sessions/${session.id}/review`
+	]);
+	return reviewOf(scope, sessionId);
+}
+
+/** Reviewer: one spot check of an instant, while the session is in review. */
+export function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown): SpotCheckView {
+	const check = parseInput(SpotCheckInput, input);
+	const id = newId();
+	db.transaction(() => {
+		const session = scope.session(sessionId);
+		requireState(session, 'in_review', 'spot-check');
+		requireVersion(session, check.version);
+		db.insert(spotChecks)
+			.values({
+				id,
+				workspaceId: scope.workspaceId,
+				sessionId,
+				sessionVersion: session.version,
+				instantSeconds: check.instantSeconds,
+				reviewerId: actor.userId,
+				verdict: check.verdict,
+				offByFrames: check.verdict === 'off' ? check.offByFrames : null,
+				note: check.note
+			})
+			.run();
+		const verdict = check.verdict === 'in_sync' ? 'in sync' : check.verdict === 'off' ? `off by about ${check.offByFrames} frame${Math.abs(check.offByFrames ?? 0) === 1 ? '' : 's'}` : 'cannot tell';
+		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'spot_check', message: `spot-checked ${check.instantSeconds.toFixed(3)} s: ${verdict}${check.note ? ` (“${check.note}”)` : ''}` });
+	});
+	return spotChecksOf(scope, sessionId).find((c) => c.id === id)!;
+}
+
+/** Reviewer: approve (in review → approved) or send back with notes (in review → aligned). */
+export async function decideReview(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown, origin: string) {
+	const { version: seen, decision, note: text } = parseInput(ReviewDecisionInput, input);
+	const session = db.transaction(() => {
+		const session = scope.session(sessionId);
+		requireState(session, 'in_review', decision === 'approve' ? 'approve' : 'send back');
+		requireVersion(session, seen);
+		db.insert(reviewDecisions)
+			.values({ id: newId(), workspaceId: scope.workspaceId, sessionId, sessionVersion: session.version, reviewerId: actor.userId, decision, note: text })
+			.run();
+		if (decision === 'approve') {
+			moveStatus(scope, session, 'approved', actor.userId, text || `Approved revision ${session.version}.`);
+			recordActivity(scope, { sessionId, userId: actor.userId, kind: 'review_approved', message: `approved revision ${session.version}${text ? `: “${text}”` : ''}` });
+		} else {
+			moveStatus(scope, session, 'aligned', actor.userId, text);
+			recordActivity(scope, { sessionId, userId: actor.userId, kind: 'review_sent_back', message: `sent revision ${session.version} back to the editors: “${text}”` });
+		}
+		return session;
+	});
+	const checks = spotChecksOf(scope, sessionId).filter((c) => c.sessionVersion === session.version);
+	const checkLines = checks.length
+		? ['', 'Spot checks of this revision:', ...checks.map((c) => `  ${c.instantSeconds.toFixed(3)} s  ${c.verdict === 'off' ? `off by about ${c.offByFrames} frames` : c.verdict.replace('_', ' ')}${c.note ? `  ${c.note}` : ''}`)]
+		: [];
+	const link = `${origin}/sessions/${session.id}`;
+	if (decision === 'approve') {
+		await mailEach(scope, editorsOf(scope, session), `Approved: ${session.name}`, [
+			`${actor.name} approved “${session.name}”, revision ${session.version}.`,
+			text ? `\nNote: ${text}` : '',
+			...checkLines,
+			'',
+			`Session: ${link}`
+		]);
+		await mailEach(scope, membersWithRole(scope, 'processor'), `Approved and ready to export: ${session.name}`, [
+			`${actor.name} approved “${session.name}”, revision ${session.version}. Its timing table can go into the pipeline.`,
+			'',
+			`Export: ${link}/export`
+		]);
+	} else {
+		await mailEach(scope, editorsOf(scope, session), `Sent back: ${session.name}`, [
+			`${actor.name} sent “${session.name}” (revision ${session.version}) back to aligned.`,
+			'',
+			`What to look at: ${text}`,
+			...checkLines,
+			'',
+			`Review: ${link}/review`,
+			`Workbench: ${link}/align`
+		]);
+	}
+	return reviewOf(scope, sessionId);
+}
+
+// ─── Who is told ────────────────────────────────────────────────────────────
+
+interface Recipient {
+	email: string;
+	name: string;
+}
+
+function membersWithRole(scope: WorkspaceScope, role: 'reviewer' | 'processor' | 'editor', among?: string[]): Recipient[] {
+	if (among && among.length === 0) return [];
+	return db
+		.select({ email: users.email, name: users.displayName })
+		.from(memberships)
+		.innerJoin(users, eq(users.id, memberships.userId))
+		.where(and(eq(memberships.workspaceId, scope.workspaceId), eq(memberships.role, role), eq(users.active, true), among ? inArray(users.id, among) : undefined))
+		.all();
+}
+
+/** The session's editors: whoever created it and whoever changed its timing, while they are editors here. */
+function editorsOf(scope: WorkspaceScope, session: CaptureSession): Recipient[] {
+	const authors = db
+		.selectDistinct({ userId: revisions.userId })
+		.from(revisions)
+		.where(scope.where(revisions, eq(revisions.sessionId, session.id), isNotNull(revisions.userId)))
+		.all()
+		.map((r) => r.userId!);
+	const ids = [...new Set([...(session.createdBy ? [session.createdBy] : []), ...authors])];
+	return membersWithRole(scope, 'editor', ids);
+}
+
+/** Mail goes out after the change is committed; a mail server that is down must not undo a decision. */
+async function mailEach(scope: WorkspaceScope, recipients: Recipient[], subject: string, lines: string[]): Promise<void> {
+	const text = lines.join('\n').replace(/\n{3,}/g, '\n\n');
+	const results = await Promise.allSettled(
+		recipients.map((r) => sendMail({ to: `${r.name} <${r.email}>`, subject, text: `Hello ${r.name},\n\n${text}\n\n— Lockstep`, workspaceId: scope.workspaceId }))
+	);
+	for (const result of results) if (result.status === 'rejected') console.error('Review mail failed:', result.reason);
+}

@@ -1,0 +1,255 @@
+import { execFileSync } from 'node:child_process';
+import { readFileSync } from 'node:fs';
+import { expect, test, type APIRequestContext, type Page, type PlaywrightWorkerArgs } from '@playwright/test';
+import { readFrameCode, type Truth } from '../scripts/fixtures/truth';
+import { PEOPLE, signInAs, type DemoRole } from './helpers';
+
+/*
+ * The review of the demo session ("Market Square fountain, lap 2", aligned): an editor sends it
+ * for review, a reviewer spot-checks three instants and sends it back, the editor nudges and
+ * sends again, the reviewer approves, a processor exports; each e-mail lands in the outbox.
+ * The session is left aligned, as the other files expect it.
+ */
+
+type Playwright = PlaywrightWorkerArgs['playwright'];
+const DEMO = 'Market Square fountain, lap 2';
+const truth = JSON.parse(readFileSync('fixtures/fountain-lap/truth.json', 'utf8')) as Truth;
+
+interface Clip {
+	id: string;
+	cameraLabel: string;
+	offsetSeconds: number;
+}
+interface Mail {
+	id: string;
+	toAddress: string;
+	subject: string;
+}
+
+async function apiAs(playwright: Playwright, baseURL: string | undefined, role: DemoRole): Promise<APIRequestContext> {
+	const context = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
+	const person = PEOPLE[role];
+	const response = await context.post('/login', { headers: { accept: 'text/html' }, form: { email: person.email, password: person.password }, maxRedirects: 0 });
+	expect(response.status(), `sign-in of ${role}`).toBe(303);
+	return context;
+}
+
+async function demoSession(api: APIRequestContext): Promise<{ id: string; status: string; version: number; clips: Clip[] }> {
+	const list = (await (await api.get(`/api/sessions?q=${encodeURIComponent('Market Square fountain')}`)).json()) as { sessions: { id: string; name: string }[] };
+	const id = list.sessions.find((s) => s.name === DEMO)!.id;
+	const body = (await (await api.get(`/api/sessions/${id}`)).json()) as { session: { status: string; version: number }; clips: Clip[] };
+	return { id, status: body.session.status, version: body.session.version, clips: body.clips };
+}
+
+/** A nudge there and back: two revisions that leave the offsets as they were and the session aligned. */
+async function nudgeThereAndBack(editor: APIRequestContext, id: string): Promise<void> {
+	let session = await demoSession(editor);
+	const mid = session.clips.find((c) => c.cameraLabel === 'Rig mid')!;
+	for (const offsetSeconds of [mid.offsetSeconds + 0.0005, mid.offsetSeconds]) {
+		const response = await editor.post(`/api/sessions/${id}/alignment`, { data: { version: session.version, edit: { kind: 'offset', clipId: mid.id, offsetSeconds, reason: 'review test nudge' } } });
+		expect(response.status()).toBe(200);
+		session = await demoSession(editor);
+	}
+	expect(session.status).toBe('aligned');
+}
+
+async function outboxSince(admin: APIRequestContext, seen: Set<string>): Promise<Mail[]> {
+	const { messages } = (await (await admin.get('/api/admin/outbox')).json()) as { messages: Mail[] };
+	return messages.filter((m) => !seen.has(m.id));
+}
+
+async function expectStatus(page: Page, label: string) {
+	await expect(page.locator('header').getByText(label, { exact: true })).toBeVisible();
+}
+
+test('send for review, spot-check, send back, nudge, send again, approve, export — with mail at each step', async ({ page, browser, playwright, baseURL }) => {
+	test.setTimeout(180_000);
+	const editorApi = await apiAs(playwright, baseURL, 'editor');
+	const reviewerApi = await apiAs(playwright, baseURL, 'reviewer');
+	const processorApi = await apiAs(playwright, baseURL, 'processor');
+	const admin = await apiAs(playwright, baseURL, 'admin');
+	let session = await demoSession(editorApi);
+	const id = session.id;
+	// Start from aligned whatever an earlier run left behind.
+	if (session.status === 'in_review') {
+		await reviewerApi.post(`/api/sessions/${id}/review/decision`, { data: { version: session.version, decision: 'send_back', note: 'reset by the review test' } });
+	} else if (session.status === 'approved') {
+		await nudgeThereAndBack(editorApi, id);
+	}
+	session = await demoSession(editorApi);
+	expect(session.status).toBe('aligned');
+	const seen = new Set((await outboxSince(admin, new Set())).map((m) => m.id));
+
+	// The editor sends it for review from the review page.
+	await signInAs(page, 'editor');
+	await page.goto(`/sessions/${id}/review`);
+	await expectStatus(page, 'Aligned');
+	await page.getByLabel('Note for the reviewer').fill('Lap 2, first pass');
+	await page.getByRole('button', { name: 'Send for review' }).click();
+	await expectStatus(page, 'In review');
+	await expect(page.getByRole('button', { name: 'Send for review' })).toHaveCount(0);
+	let mail = await outboxSince(admin, seen);
+	expect(mail.some((m) => m.toAddress.includes(PEOPLE.reviewer.email) && m.subject === `Ready for review: ${DEMO}`)).toBe(true);
+	mail.forEach((m) => seen.add(m.id));
+
+	// The reviewer checks three instants and sends it back.
+	const reviewerContext = await browser.newContext();
+	const reviewer = await reviewerContext.newPage();
+	await signInAs(reviewer, 'reviewer');
+	await reviewer.goto(`/sessions/${id}/review?count=3`);
+	const instants = reviewer.getByRole('region', { name: /^Instant / });
+	await expect(instants).toHaveCount(3);
+	await expect(instants.first().getByRole('img').first()).toBeVisible();
+	for (let i = 0; i < 3; i++) {
+		const instant = instants.nth(i);
+		if (i === 1) {
+			await instant.getByLabel('Off', { exact: true }).check();
+			await instant.getByLabel('Off by (frames)').fill('1');
+		}
+		await instant.getByLabel('Note').fill(`check ${i + 1}`);
+		await instant.getByRole('button', { name: /^Record check/ }).click();
+		await expect(reviewer.getByRole('status').filter({ hasText: /Spot check at .* recorded/ })).toBeVisible();
+	}
+	const checks = reviewer.getByRole('region', { name: 'Spot checks' }).getByRole('row');
+	await expect(checks.filter({ hasText: /check [123]/ })).toHaveCount(3);
+	await expect(checks.filter({ hasText: 'Off by about 1 frames' })).toHaveCount(1);
+	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant.');
+	await reviewer.getByRole('button', { name: 'Send back with notes' }).click();
+	await expectStatus(reviewer, 'Aligned');
+	mail = await outboxSince(admin, seen);
+	const sentBack = mail.find((m) => m.toAddress.includes(PEOPLE.editor.email) && m.subject === `Sent back: ${DEMO}`);
+	expect(sentBack, 'the editor is told the session was sent back').toBeTruthy();
+	const { message } = (await (await admin.get(`/api/admin/outbox/${sentBack!.id}`)).json()) as { message: { textBody: string } };
+	expect(message.textBody).toContain('The mid camera looks a frame late');
+	mail.forEach((m) => seen.add(m.id));
+
+	// The editor nudges and sends again (by API, as a script would).
+	await nudgeThereAndBack(editorApi, id);
+	session = await demoSession(editorApi);
+	const again = await editorApi.post(`/api/sessions/${id}/review/send`, { data: { version: session.version, note: 'Nudged the mid camera' } });
+	expect(again.status()).toBe(200);
+	expect((await again.json()).session.status).toBe('in_review');
+
+	// A stale version is refused; the reviewer approves the current one on the page.
+	const stale = await reviewerApi.post(`/api/sessions/${id}/review/decision`, { data: { version: session.version - 1, decision: 'approve', note: '' } });
+	expect(stale.status()).toBe(409);
+	await reviewer.goto(`/sessions/${id}/review?count=1`);
+	await reviewer.getByRole('button', { name: /^Record check/ }).click();
+	await expect(reviewer.getByRole('status').filter({ hasText: /recorded/ })).toBeVisible();
+	await reviewer.getByRole('button', { name: `Approve revision ${session.version}` }).click();
+	await expectStatus(reviewer, 'Approved');
+	await expect(reviewer.getByText(`Approved by ${PEOPLE.reviewer.name}`)).toBeVisible();
+	const review = (await (await editorApi.get(`/api/sessions/${id}/review`)).json()) as { approval: { who: string; sessionVersion: number; createdAt: number } };
+	expect(review.approval.who).toBe(PEOPLE.reviewer.name);
+	expect(review.approval.sessionVersion).toBe(session.version);
+	mail = await outboxSince(admin, seen);
+	expect(mail.some((m) => m.toAddress.includes(PEOPLE.editor.email) && m.subject === `Approved: ${DEMO}`)).toBe(true);
+	expect(mail.some((m) => m.toAddress.includes(PEOPLE.processor.email) && m.subject === `Approved and ready to export: ${DEMO}`)).toBe(true);
+
+	// The processor exports the approved revision.
+	const csv = await processorApi.get(`/api/sessions/${id}/timing-table?format=csv`);
+	expect(csv.status()).toBe(200);
+	expect(await csv.text()).not.toContain('UNAPPROVED');
+
+	// The activity feed on the session page tells the story.
+	await page.goto(`/sessions/${id}`);
+	const activity = page.getByRole('region', { name: 'Activity' });
+	await expect(activity.getByText(/approved revision/).first()).toBeVisible();
+	await expect(activity.getByText(/sent revision \d+ back to the editors/).first()).toBeVisible();
+
+	// Leave the demo session aligned for the other files.
+	await nudgeThereAndBack(editorApi, id);
+	await reviewerContext.close();
+	for (const api of [editorApi, reviewerApi, processorApi, admin]) await api.dispose();
+});
+
+test('roles and states are enforced on every review action, crafted requests included', async ({ playwright, baseURL }) => {
+	const apis = {
+		editor: await apiAs(playwright, baseURL, 'editor'),
+		reviewer: await apiAs(playwright, baseURL, 'reviewer'),
+		processor: await apiAs(playwright, baseURL, 'processor'),
+		admin: await apiAs(playwright, baseURL, 'admin'),
+		outsider: await apiAs(playwright, baseURL, 'outsider')
+	};
+	const session = await demoSession(apis.editor);
+	expect(session.status).toBe('aligned');
+	const id = session.id;
+	const check = { version: session.version, instantSeconds: 20, verdict: 'in_sync', note: '' };
+	const decision = { version: session.version, decision: 'approve', note: '' };
+	for (const role of ['reviewer', 'processor', 'admin'] as const) {
+		expect((await apis[role].post(`/api/sessions/${id}/review/send`, { data: { version: session.version } })).status(), `${role} sends`).toBe(403);
+	}
+	// An editor of another workspace may send for review there, but this session does not exist for them.
+	expect((await apis.outsider.post(`/api/sessions/${id}/review/send`, { data: { version: session.version } })).status()).toBe(404);
+	for (const role of ['editor', 'processor', 'admin', 'outsider'] as const) {
+		expect((await apis[role].post(`/api/sessions/${id}/review/checks`, { data: check })).status(), `${role} checks`).toBe(403);
+		expect((await apis[role].post(`/api/sessions/${id}/review/decision`, { data: decision })).status(), `${role} decides`).toBe(403);
+		const form = await apis[role].post(`/sessions/${id}/review?/decide`, { headers: { accept: 'application/json' }, form: { version: String(session.version), decision: 'approve' } });
+		expect(form.status(), `${role} decides by form`).toBe(403);
+	}
+	// The right role, the wrong state: nothing to check or decide while the session is aligned.
+	const early = await apis.reviewer.post(`/api/sessions/${id}/review/checks`, { data: check });
+	expect(early.status()).toBe(409);
+	expect((await early.json()).error.code).toBe('wrong_state');
+	expect((await apis.reviewer.post(`/api/sessions/${id}/review/decision`, { data: decision })).status()).toBe(409);
+	// Sending back needs a note.
+	const noNote = await apis.reviewer.post(`/api/sessions/${id}/review/decision`, { data: { ...decision, decision: 'send_back' } });
+	expect(noNote.status()).toBe(400);
+	expect((await demoSession(apis.editor)).status).toBe('aligned');
+	for (const api of Object.values(apis)) await api.dispose();
+});
+
+/** The 16-bit frame number drawn in a served PNG (fixtures/README.md), read through ffmpeg as grey pixels. */
+function frameCodeOf(png: Buffer): { code: number; width: number } {
+	const probe = execFileSync('ffprobe', ['-v', 'error', '-select_streams', 'v:0', '-show_entries', 'stream=width,height', '-of', 'csv=p=0', '-'], { input: png }).toString().trim();
+	const [width] = probe.split(',').map(Number);
+	const luma = execFileSync('ffmpeg', ['-v', 'error', '-i', '-', '-f', 'rawvideo', '-pix_fmt', 'gray', '-'], { input: png });
+	return { code: readFrameCode(luma, width, truth.frameCode), width };
+}
+
+test('frame grabs come from the right timestamps: each image shows the frame number the timing table names', async ({ playwright, baseURL }) => {
+	test.setTimeout(120_000);
+	const api = await apiAs(playwright, baseURL, 'reviewer');
+	const session = await demoSession(api);
+	const review = (await (await api.get(`/api/sessions/${session.id}/review?count=3`)).json()) as {
+		instants: { cameras: { id: string; label: string }[]; rows: { cells: ({ index: number } | null)[] }[] };
+	};
+	let compared = 0;
+	for (const row of review.instants.rows) {
+		for (const [c, cell] of row.cells.entries()) {
+			if (!cell) continue;
+			const response = await api.get(`/api/clips/${review.instants.cameras[c].id}/frames/${cell.index}?format=png`);
+			expect(response.status()).toBe(200);
+			expect(response.headers()['content-type']).toBe('image/png');
+			const { code, width } = frameCodeOf(await response.body());
+			expect(width).toBeLessThanOrEqual(320);
+			expect(code, `${review.instants.cameras[c].label} frame ${cell.index}`).toBe(cell.index);
+			compared++;
+		}
+	}
+	expect(compared).toBeGreaterThanOrEqual(6);
+	// Neighbours too (the ±2 strip), and a JPEG by default.
+	const mid = session.clips.find((c) => c.cameraLabel === 'Rig mid')!;
+	for (const frame of [437, 438, 439]) {
+		expect(frameCodeOf(await (await api.get(`/api/clips/${mid.id}/frames/${frame}?format=png`)).body()).code).toBe(frame);
+	}
+	const jpeg = await api.get(`/api/clips/${mid.id}/frames/438`);
+	expect(jpeg.headers()['content-type']).toBe('image/jpeg');
+	expect((await api.get(`/api/clips/${mid.id}/frames/999999`)).status()).toBe(404);
+	await api.dispose();
+});
+
+test('the slate clap marked in each camera agrees with the sound within a frame', async ({ playwright, baseURL }) => {
+	const api = await apiAs(playwright, baseURL, 'reviewer');
+	const session = await demoSession(api);
+	const files: Record<string, string> = { 'Rig high': 'high.mp4', 'Rig mid': 'mid.mp4', 'Rig low (housing)': 'low.mp4' };
+	const marks = session.clips
+		.filter((c) => files[c.cameraLabel])
+		.map((c) => `mark=${c.id}:${truth.clips.find((t) => t.file === files[c.cameraLabel])!.marks.find((m) => m.label === 'slate clap')!.flashFrame}`);
+	expect(marks).toHaveLength(3);
+	const response = await api.get(`/api/sessions/${session.id}/review/marked-event?${marks.join('&')}`);
+	expect(response.status()).toBe(200);
+	const { estimate } = (await response.json()) as { estimate: { cameras: { disagreementFrames: number }[] } };
+	for (const camera of estimate.cameras) expect(Math.abs(camera.disagreementFrames)).toBeLessThan(1);
+	await api.dispose();
+});
