@@ -183,6 +183,7 @@ test('a reviewer sees the workbench read-only and a crafted change is refused', 
 });
 
 test('screenshots of the workbench with the demo session', async ({ page }) => {
+	test.setTimeout(180_000);
 	mkdirSync('screens', { recursive: true });
 	await page.setViewportSize({ width: 1600, height: 1100 });
 	await signInAs(page, 'editor');
@@ -196,6 +197,9 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
 	await page.getByRole('button', { name: 'Show drift fit' }).click();
 	await expect(page.getByTestId('drift-plot').locator('canvas')).toBeVisible();
+	// Put the playhead on the second lap (zoom keeps it in place), where all three cameras hear the square.
+	const ruler = (await page.getByTestId('ruler').boundingBox())!;
+	await page.mouse.click(ruler.x + ruler.width * 0.43, ruler.y + 10);
 	for (let i = 0; i < 6; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
 	await page.waitForTimeout(1200);
 	await page.screenshot({ path: 'screens/workbench-zoomed-drift-fit.png', fullPage: true });
