@@ -37,7 +37,7 @@ const env = {
 function writeHourOfPeaks(dir: string): void {
 	mkdirSync(dir, { recursive: true });
 	const buckets = Math.ceil((CLIP_SECONDS * SAMPLE_RATE) / PEAK_BUCKET_SIZES[0]);
-	let data = new Float32Array(buckets * 2);
+	let data: Float32Array<ArrayBufferLike> = new Float32Array(buckets * 2);
 	let seed = 12345;
 	const random = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
 	for (let b = 0; b < buckets; b++) {
