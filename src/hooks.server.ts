@@ -5,7 +5,7 @@ import { lucia } from '$lib/server/auth';
 import { applyMigrations, databasePath, db } from '$lib/server/db';
 import { registerAnalysisHandlers } from '$lib/server/jobs/handlers';
 import { startJobRunner } from '$lib/server/jobs/runner';
-import { startMail } from '$lib/server/mail';
+import { startMail, stopMail } from '$lib/server/mail';
 import { describeMediaBinaries } from '$lib/server/media/binaries';
 import { WORKSPACE_COOKIE, membershipsOf } from '$lib/server/workspaces';
 
@@ -16,6 +16,9 @@ export const init: ServerInit = async () => {
 	await startMail();
 	registerAnalysisHandlers();
 	startJobRunner();
+	// adapter-node closes the HTTP server on SIGTERM/SIGINT, then emits this: close the local
+	// SMTP server too, or its open socket keeps the process alive.
+	process.once('sveltekit:shutdown', () => void stopMail());
 };
 
 /** Resolves who is asking, once per request: a bearer token, or the session cookie. */
