@@ -112,7 +112,7 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 	}
 	const checks = reviewer.getByRole('region', { name: 'Spot checks' }).getByRole('row');
 	await expect(checks.filter({ hasText: /check [123]/ })).toHaveCount(3);
-	await expect(checks.filter({ hasText: 'Off by about 1 frames' })).toHaveCount(1);
+	await expect(checks.filter({ hasText: 'Off by about 1 frame' })).toHaveCount(1);
 	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant.');
 	await reviewer.getByRole('button', { name: 'Send back with notes' }).click();
 	await expectStatus(reviewer, 'Aligned');

@@ -148,6 +148,8 @@ export interface ReviewCamera {
 	isReference: boolean;
 	fps: number;
 	frameCount: number;
+	offsetSeconds: number;
+	driftPpm: number;
 }
 
 export interface ReviewInstants {
@@ -158,7 +160,7 @@ export interface ReviewInstants {
 }
 
 function camerasOf(table: TimingTable): ReviewCamera[] {
-	return table.clips.map((c) => ({ id: c.id, label: c.label, position: c.position, isReference: c.isReference, fps: c.frameRate.fps, frameCount: c.frameCount }));
+	return table.clips.map((c) => ({ id: c.id, label: c.label, position: c.position, isReference: c.isReference, fps: c.frameRate.fps, frameCount: c.frameCount, offsetSeconds: c.offsetSeconds, driftPpm: c.driftPpm }));
 }
 
 /**
@@ -167,20 +169,20 @@ function camerasOf(table: TimingTable): ReviewCamera[] {
  * exactly what the export will write.
  */
 export async function reviewInstants(scope: WorkspaceScope, sessionId: string, pick: InstantPick): Promise<ReviewInstants> {
-	const spread = pick.kind === 'count' ? pick.count : 1;
-	const result: TimingTableResult = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: spread }, cameras: null, toleranceMs: null });
-	let table = result.table;
-	if (pick.kind === 'at') {
-		// One instant: a span a microsecond wide around it, whose single instant is its middle.
-		table = buildTimingTable({
-			session: result.table.session,
-			usableSpan: { startSeconds: pick.seconds - 5e-7, endSeconds: pick.seconds + 5e-7 },
-			clips: result.inputs,
-			instants: { kind: 'count', count: 1 }
-		});
-		table.rows = table.rows.map((row) => ({ ...row, sessionSeconds: pick.seconds }));
-	}
-	return { usableSpan: result.table.usableSpan, toleranceMs: result.table.toleranceMs, cameras: camerasOf(result.table), rows: table.rows };
+	const result: TimingTableResult = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: 1 }, cameras: null, toleranceMs: null });
+	const { startSeconds, endSeconds } = result.table.usableSpan;
+	// N instants at the middles of N equal parts of the span, away from its edges where a camera may just be starting;
+	// one typed instant as the single middle of a span a microsecond wide around it.
+	const part = pick.kind === 'count' ? (endSeconds - startSeconds) / pick.count : 0;
+	const span = pick.kind === 'count' ? { startSeconds: startSeconds + part / 2, endSeconds: endSeconds - part / 2 + (pick.count === 1 ? 1e-9 : 0) } : { startSeconds: pick.seconds - 5e-7, endSeconds: pick.seconds + 5e-7 };
+	const table = buildTimingTable({
+		session: result.table.session,
+		usableSpan: span,
+		clips: result.inputs,
+		instants: { kind: 'count', count: pick.kind === 'count' ? pick.count : 1 }
+	});
+	const rows = pick.kind === 'at' ? table.rows.map((row) => ({ ...row, sessionSeconds: pick.seconds })) : table.rows;
+	return { usableSpan: result.table.usableSpan, toleranceMs: result.table.toleranceMs, cameras: camerasOf(result.table), rows };
 }
 
 // ─── The marked-event check ─────────────────────────────────────────────────
