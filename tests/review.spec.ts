@@ -228,6 +228,10 @@ test('frame grabs come from the right timestamps: each image shows the frame num
 		}
 	}
 	expect(compared).toBeGreaterThanOrEqual(6);
+	// A typed instant gives one row at exactly that time.
+	const typed = (await (await api.get(`/api/sessions/${session.id}/review?at=30.5`)).json()) as { instants: { rows: { sessionSeconds: number }[] } };
+	expect(typed.instants.rows.map((r) => r.sessionSeconds)).toEqual([30.5]);
+	expect((await api.get(`/api/sessions/${session.id}/review?count=0`)).status()).toBe(400);
 	// Neighbours too (the ±2 strip), and a JPEG by default.
 	const mid = session.clips.find((c) => c.cameraLabel === 'Rig mid')!;
 	for (const frame of [437, 438, 439]) {
