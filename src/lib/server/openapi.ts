@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { ROLE_NAMES, PERMISSIONS, type Permission } from '$lib/permissions';
 import { AlignmentEditRequest, RevertRequest } from './alignment-edits';
 import { ClipEditFields } from './clips';
+import { ReviewDecisionInput, SendForReview, SpotCheckInput } from './review';
 import { ImportRequest } from './import-browse';
 import { ImportRootFields } from './import-roots';
 import { InvitationFields } from './invitations';
@@ -102,6 +103,34 @@ const OPERATIONS: Record<string, Partial<Record<Method, Operation>>> = {
 		}
 	},
 	'/api/clips/{id}/proxy': { get: { summary: 'Listening copy (mono AAC) with HTTP Range', permission: 'sessions:read', produces: 'audio/mp4' } },
+	'/api/clips/{id}/frames/{frame}': {
+		get: {
+			summary: 'One video frame, cut at its presentation timestamp, at most 320 px wide',
+			permission: 'sessions:read',
+			produces: 'image/jpeg',
+			query: { format: { description: 'jpeg (default) or png', type: 'string' } }
+		}
+	},
+	'/api/sessions/{id}/review': {
+		get: {
+			summary: 'Status, approval, spot checks and decisions; with count or at, each camera\'s nearest frame at those instants',
+			permission: 'sessions:read',
+			query: {
+				count: { description: 'instants spread across the usable span (1–24)', type: 'integer' },
+				at: { description: 'one instant, session seconds', type: 'number' }
+			}
+		}
+	},
+	'/api/sessions/{id}/review/send': { post: { summary: 'Send an aligned session for review', permission: 'review:send', body: SendForReview } },
+	'/api/sessions/{id}/review/checks': { post: { summary: 'Record a spot check while the session is in review', permission: 'review:check', body: SpotCheckInput, status: 201 } },
+	'/api/sessions/{id}/review/decision': { post: { summary: 'Approve, or send back to aligned with notes', permission: 'review:decide', body: ReviewDecisionInput } },
+	'/api/sessions/{id}/review/marked-event': {
+		get: {
+			summary: 'The offsets one visible event implies against the sound',
+			permission: 'sessions:read',
+			query: { mark: { description: 'clipId:frame, once per camera (two or more)', type: 'string', required: true } }
+		}
+	},
 	'/api/jobs/{id}/cancel': { post: { summary: 'Cancel a queued or running job', permission: 'alignment:run' } },
 	'/api/jobs/{id}/retry': { post: { summary: 'Queue a failed or cancelled job again', permission: 'alignment:run' } },
 	'/api/import-roots': { get: { summary: 'Import folders editors may browse', permission: 'imports:browse' } },
