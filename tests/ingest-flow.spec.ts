@@ -14,9 +14,10 @@ test('an editor creates a session, uploads three clips, watches the jobs and see
 	test.setTimeout(180_000);
 	await signInAs(page, 'editor');
 	await page.getByRole('link', { name: 'New capture session' }).click();
+	await expect(page.getByRole('heading', { name: 'New capture session' })).toBeVisible();
 	const name = `Fountain upload ${Date.now().toString(36)}`;
-	await page.getByLabel('Name').fill(name);
-	await page.getByLabel('Site').fill('Market Square, Wrenfield');
+	await page.getByLabel('Name', { exact: true }).fill(name);
+	await page.getByLabel('Site', { exact: true }).fill('Market Square, Wrenfield');
 	await page.getByRole('button', { name: 'Create capture session' }).click();
 	await expect(page.getByRole('heading', { name })).toBeVisible();
 	const sessionId = page.url().split('/').pop()!;
