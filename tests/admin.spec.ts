@@ -2,7 +2,7 @@ import { expect, test, type APIRequestContext, type Browser } from '@playwright/
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { PEOPLE, signInAs, signInWith } from './helpers';
+import { apiAs, PEOPLE, signInAs, signInWith } from './helpers';
 
 /*
  * The admin pages: people (roles, deactivation, the last-admin rule), API tokens,
@@ -15,17 +15,6 @@ const run = Date.now().toString(36);
 
 // Each flow signs people in and out several times (argon2id on purpose); give slow machines room.
 test.describe.configure({ timeout: 150_000 });
-
-async function adminApi(browser: Browser, baseURL: string | undefined): Promise<APIRequestContext> {
-	const context = await browser.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
-	const response = await context.request.post('/login', {
-		form: { email: PEOPLE.admin.email, password: PEOPLE.admin.password },
-		headers: { accept: 'text/html' },
-		maxRedirects: 0
-	});
-	expect(response.status()).toBe(303);
-	return context.request;
-}
 
 /** Invites a throwaway person through the API and accepts through the invitation page. */
 async function newPerson(browser: Browser, baseURL: string | undefined, api: APIRequestContext, role: string, label: string) {
@@ -64,7 +53,7 @@ test('the last active admin can be neither demoted nor deactivated; another admi
 	await expect(ada.getByRole('button', { name: /Deactivate/ })).toHaveCount(0);
 
 	// The JSON API says the same, in the { error: { code, message } } shape.
-	const api = await adminApi(browser, baseURL);
+	const api = await apiAs(baseURL, 'admin');
 	const people = (await (await api.get('/api/admin/people')).json()) as { members: { userId: string; email: string }[] };
 	const adaId = people.members.find((m) => m.email === PEOPLE.admin.email)!.userId;
 	const demote = await api.patch(`/api/admin/people/${adaId}`, { data: { role: 'reviewer' } });
@@ -85,7 +74,7 @@ test('the last active admin can be neither demoted nor deactivated; another admi
 });
 
 test('an admin deactivates and reactivates a person; a deactivated person cannot sign in', async ({ page, browser, baseURL }) => {
-	const api = await adminApi(browser, baseURL);
+	const api = await apiAs(baseURL, 'admin');
 	const person = await newPerson(browser, baseURL, api, 'reviewer', 'leaver');
 
 	await signInAs(page, 'admin');
@@ -164,7 +153,7 @@ test('an API token is shown once, works as a Bearer token, and is refused with 4
 });
 
 test('the tokens API creates, lists and revokes tokens, and a token cannot mint another', async ({ browser, baseURL, playwright }) => {
-	const api = await adminApi(browser, baseURL);
+	const api = await apiAs(baseURL, 'admin');
 	const created = await api.post('/api/admin/tokens', { data: { name: `API-made ${run}`, role: 'admin' } });
 	expect(created.status()).toBe(201);
 	const { token, secret } = (await created.json()) as { token: { id: string; prefix: string }; secret: string };

@@ -1,5 +1,5 @@
 import { expect, test, type APIRequestContext, type Browser, type Page } from '@playwright/test';
-import { PEOPLE, e2eDatabase, signInAs, signInWith } from './helpers';
+import { apiAs, PEOPLE, e2eDatabase, signInAs, signInWith } from './helpers';
 
 /*
  * Invitations, password resets, sign-in throttling and refused links, end to end: the
@@ -13,18 +13,6 @@ const run = Date.now().toString(36);
 
 // Each flow signs people in and out several times (argon2id on purpose); give slow machines room.
 test.describe.configure({ timeout: 150_000 });
-
-/** A request context signed in as the demo admin, for setting up what a test is not about. */
-async function adminApi(browser: Browser, baseURL: string | undefined): Promise<APIRequestContext> {
-	const context = await browser.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
-	const response = await context.request.post('/login', {
-		form: { email: PEOPLE.admin.email, password: PEOPLE.admin.password },
-		headers: { accept: 'text/html' },
-		maxRedirects: 0
-	});
-	expect(response.status()).toBe(303);
-	return context.request;
-}
 
 /** The first link to `path` in the newest mail to `email`, read through the admin outbox API. */
 async function linkInMail(api: APIRequestContext, email: string, path: '/invite/' | '/reset/'): Promise<string> {
@@ -128,7 +116,7 @@ test('an admin invites a new person, who accepts through the mailed link and is 
 });
 
 test('an expired invitation link is refused with a clear explanation', async ({ browser, page, baseURL }) => {
-	const api = await adminApi(browser, baseURL);
+	const api = await apiAs(baseURL, 'admin');
 	const email = `late.${run}@example.test`;
 	expect((await api.post('/api/admin/invitations', { data: { email, role: 'editor' } })).status()).toBe(201);
 	const link = await linkInMail(api, email, '/invite/');
@@ -150,7 +138,7 @@ test('an expired invitation link is refused with a clear explanation', async ({ 
 });
 
 test('a password reset through /forgot and the mailed link sets a new password and signs out other sessions', async ({ browser, page, baseURL }) => {
-	const api = await adminApi(browser, baseURL);
+	const api = await apiAs(baseURL, 'admin');
 	const person = await newPerson(browser, baseURL, api, 'processor', 'resetter');
 
 	// Another browser where they are still signed in with the old password.
@@ -215,7 +203,7 @@ test('a password reset through /forgot and the mailed link sets a new password a
 });
 
 test('an expired password reset link is refused', async ({ browser, page, baseURL }) => {
-	const api = await adminApi(browser, baseURL);
+	const api = await apiAs(baseURL, 'admin');
 	const person = await newPerson(browser, baseURL, api, 'editor', 'slowreader');
 	await page.goto('/forgot', { waitUntil: 'networkidle' });
 	await page.getByLabel('E-mail').fill(person.email);

@@ -1,8 +1,8 @@
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
-import { expect, test, type Browser, type Page } from '@playwright/test';
+import { expect, test, type Page } from '@playwright/test';
 import Papa from 'papaparse';
-import { e2eDatabase, PEOPLE, signInAs } from './helpers';
+import { apiAs, e2eDatabase, PEOPLE, signInAs } from './helpers';
 
 /*
  * The processor's export of the demo session ("Market Square fountain, lap 2", aligned, not
@@ -25,17 +25,6 @@ async function downloadText(page: Page, name: RegExp): Promise<{ text: string; f
 	await page.getByRole('link', { name }).click();
 	const download = await waiting;
 	return { text: readFileSync((await download.path())!, 'utf8'), fileName: download.suggestedFilename() };
-}
-
-async function adminApi(browser: Browser, baseURL: string | undefined) {
-	const context = await browser.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
-	const response = await context.request.post('/login', {
-		headers: { accept: 'text/html' },
-		form: { email: PEOPLE.admin.email, password: PEOPLE.admin.password },
-		maxRedirects: 0
-	});
-	expect(response.status()).toBe(303);
-	return context;
 }
 
 test('a processor previews the demo session, confirms the unapproved export and downloads CSV equal to the preview', async ({ page }) => {
@@ -114,12 +103,12 @@ test('an editor sees the preview but cannot download', async ({ page }) => {
 	expect((await response.json()).error.code).toBe('forbidden');
 });
 
-test('a processor API token exports every format; errors come in the common shape', async ({ browser, baseURL, playwright }) => {
-	const admin = await adminApi(browser, baseURL);
-	const created = await admin.request.post('/api/admin/tokens', { data: { name: `Export pipeline ${Date.now()}`, role: 'processor' } });
+test('a processor API token exports every format; errors come in the common shape', async ({ baseURL, playwright }) => {
+	const admin = await apiAs(baseURL, 'admin');
+	const created = await admin.post('/api/admin/tokens', { data: { name: `Export pipeline ${Date.now()}`, role: 'processor' } });
 	expect(created.status()).toBe(201);
 	const { secret } = (await created.json()) as { secret: string };
-	await admin.close();
+	await admin.dispose();
 	const api = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { authorization: `Bearer ${secret}` } });
 	const base = `/api/sessions/${demoSessionId()}/timing-table`;
 

@@ -1,4 +1,4 @@
-import { expect, type Page } from '@playwright/test';
+import { expect, request, type APIRequestContext, type Page } from '@playwright/test';
 import Database from 'better-sqlite3';
 
 /** The demo people seeded by scripts/seed.ts into "Fieldglass Capture Studio". */
@@ -15,6 +15,18 @@ export type DemoRole = keyof typeof PEOPLE;
 export async function signInAs(page: Page, role: DemoRole): Promise<void> {
 	await signInWith(page, PEOPLE[role].email, PEOPLE[role].password);
 	await expect(page).toHaveURL(/\/sessions$/);
+}
+
+/** An API request context signed in as a demo person, through the sign-in form as a browser would. */
+export async function apiAs(baseURL: string | undefined, role: DemoRole): Promise<APIRequestContext> {
+	const context = await request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
+	const response = await context.post('/login', {
+		headers: { accept: 'text/html' },
+		form: { email: PEOPLE[role].email, password: PEOPLE[role].password },
+		maxRedirects: 0
+	});
+	expect(response.status(), `sign-in of ${role}`).toBe(303);
+	return context;
 }
 
 export async function signInWith(page: Page, email: string, password: string): Promise<void> {

@@ -1,7 +1,7 @@
 import { expect, test, type APIRequestContext, type PlaywrightWorkerArgs } from '@playwright/test';
 
 type Playwright = PlaywrightWorkerArgs['playwright'];
-import { PEOPLE } from './helpers';
+import { apiAs } from './helpers';
 import { discoverRoutes } from './routes-on-disk';
 import { ROUTE_RULES, type Outcome, type Persona } from './route-rules';
 
@@ -21,17 +21,8 @@ test.describe('route × role', () => {
 	let sessionId = '';
 
 	async function contextFor(playwright: Playwright, baseURL: string | undefined, persona: Persona) {
-		const context = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
-		if (persona !== 'anon') {
-			const person = PEOPLE[persona];
-			const response = await context.post('/login', {
-				headers: { accept: 'text/html' },
-				form: { email: person.email, password: person.password },
-				maxRedirects: 0
-			});
-			expect(response.status(), `sign-in of ${persona}`).toBe(303);
-		}
-		return context;
+		if (persona !== 'anon') return apiAs(baseURL, persona);
+		return playwright.request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
 	}
 
 	test.beforeAll(async ({ playwright, baseURL }) => {

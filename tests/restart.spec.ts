@@ -1,9 +1,9 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { mkdirSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
-import { expect, request, test, type APIRequestContext } from '@playwright/test';
+import { expect, test, type APIRequestContext } from '@playwright/test';
 import Database from 'better-sqlite3';
-import { PEOPLE } from './helpers';
+import { apiAs } from './helpers';
 
 /*
  * A server killed in the middle of an alignment and started again: the job runs again to the
@@ -43,17 +43,6 @@ async function waitUntilUp(): Promise<void> {
 	throw new Error(`The server did not come up (${last})`);
 }
 
-async function signedIn(role: 'admin' | 'editor'): Promise<APIRequestContext> {
-	const context = await request.newContext({ baseURL: BASE, extraHTTPHeaders: { origin: BASE } });
-	const response = await context.post('/login', {
-		headers: { accept: 'text/html' },
-		form: { email: PEOPLE[role].email, password: PEOPLE[role].password },
-		maxRedirects: 0
-	});
-	expect(response.status()).toBe(303);
-	return context;
-}
-
 let server: ChildProcess | undefined;
 
 test.afterAll(() => {
@@ -72,11 +61,11 @@ test('a server killed during an alignment finishes the job after a restart, with
 	server = startServer();
 	await waitUntilUp();
 
-	const admin = await signedIn('admin');
+	const admin = await apiAs(BASE, 'admin');
 	const root = await admin.post('/api/admin/imports', { data: { name: 'Fountain card', path: resolve('fixtures/fountain-lap'), mode: 'reference' } });
 	expect(root.status()).toBe(201);
 	const rootId = (await root.json()).root.id as string;
-	const editor = await signedIn('editor');
+	const editor = await apiAs(BASE, 'editor');
 	const created = await editor.post('/api/sessions', { data: { name: 'Restart drill' } });
 	const sessionId = (await created.json()).session.id as string;
 	const imported = await editor.post(`/api/sessions/${sessionId}/imports`, { data: { rootId, files: ['high.mp4', 'mid.mp4', 'low.mp4'] } });
@@ -99,7 +88,7 @@ test('a server killed during an alignment finishes the job after a restart, with
 
 	server = startServer();
 	await waitUntilUp();
-	const again = await signedIn('editor');
+	const again = await apiAs(BASE, 'editor');
 	// Every job ends done; clips that finished probing after the first run get a second one.
 	await expect
 		.poll(async () => (await jobsNow(again)).filter((j) => j.state !== 'done').length, { timeout: 150_000, intervals: [500] })

@@ -1,8 +1,8 @@
 import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
-import { expect, test, type APIRequestContext, type Page, type PlaywrightWorkerArgs } from '@playwright/test';
+import { expect, test, type APIRequestContext, type Page } from '@playwright/test';
 import { readFrameCode, type Truth } from '../scripts/fixtures/truth';
-import { PEOPLE, signInAs, type DemoRole } from './helpers';
+import { apiAs, PEOPLE, signInAs, type DemoRole } from './helpers';
 
 /*
  * The review of the demo session ("Market Square fountain, lap 2", aligned): an editor sends it
@@ -11,7 +11,6 @@ import { PEOPLE, signInAs, type DemoRole } from './helpers';
  * The session is left aligned, as the other files expect it.
  */
 
-type Playwright = PlaywrightWorkerArgs['playwright'];
 const DEMO = 'Market Square fountain, lap 2';
 const truth = JSON.parse(readFileSync('fixtures/fountain-lap/truth.json', 'utf8')) as Truth;
 
@@ -24,14 +23,6 @@ interface Mail {
 	id: string;
 	toAddress: string;
 	subject: string;
-}
-
-async function apiAs(playwright: Playwright, baseURL: string | undefined, role: DemoRole): Promise<APIRequestContext> {
-	const context = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '' } });
-	const person = PEOPLE[role];
-	const response = await context.post('/login', { headers: { accept: 'text/html' }, form: { email: person.email, password: person.password }, maxRedirects: 0 });
-	expect(response.status(), `sign-in of ${role}`).toBe(303);
-	return context;
 }
 
 async function demoSession(api: APIRequestContext): Promise<{ id: string; status: string; version: number; clips: Clip[] }> {
@@ -64,10 +55,10 @@ async function expectStatus(page: Page, label: string) {
 
 test('send for review, spot-check, send back, nudge, send again, approve, export — with mail at each step', async ({ page, browser, playwright, baseURL }) => {
 	test.setTimeout(180_000);
-	const editorApi = await apiAs(playwright, baseURL, 'editor');
-	const reviewerApi = await apiAs(playwright, baseURL, 'reviewer');
-	const processorApi = await apiAs(playwright, baseURL, 'processor');
-	const admin = await apiAs(playwright, baseURL, 'admin');
+	const editorApi = await apiAs(baseURL, 'editor');
+	const reviewerApi = await apiAs(baseURL, 'reviewer');
+	const processorApi = await apiAs(baseURL, 'processor');
+	const admin = await apiAs(baseURL, 'admin');
 	let session = await demoSession(editorApi);
 	const id = session.id;
 	// Start from aligned whatever an earlier run left behind.
@@ -165,11 +156,11 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 
 test('roles and states are enforced on every review action, crafted requests included', async ({ playwright, baseURL }) => {
 	const apis = {
-		editor: await apiAs(playwright, baseURL, 'editor'),
-		reviewer: await apiAs(playwright, baseURL, 'reviewer'),
-		processor: await apiAs(playwright, baseURL, 'processor'),
-		admin: await apiAs(playwright, baseURL, 'admin'),
-		outsider: await apiAs(playwright, baseURL, 'outsider')
+		editor: await apiAs(baseURL, 'editor'),
+		reviewer: await apiAs(baseURL, 'reviewer'),
+		processor: await apiAs(baseURL, 'processor'),
+		admin: await apiAs(baseURL, 'admin'),
+		outsider: await apiAs(baseURL, 'outsider')
 	};
 	const session = await demoSession(apis.editor);
 	expect(session.status).toBe('aligned');
@@ -209,7 +200,7 @@ function frameCodeOf(png: Buffer): { code: number; width: number } {
 
 test('frame grabs come from the right timestamps: each image shows the frame number the timing table names', async ({ playwright, baseURL }) => {
 	test.setTimeout(120_000);
-	const api = await apiAs(playwright, baseURL, 'reviewer');
+	const api = await apiAs(baseURL, 'reviewer');
 	const session = await demoSession(api);
 	const review = (await (await api.get(`/api/sessions/${session.id}/review?count=3`)).json()) as {
 		instants: { cameras: { id: string; label: string }[]; rows: { cells: ({ index: number } | null)[] }[] };
@@ -244,7 +235,7 @@ test('frame grabs come from the right timestamps: each image shows the frame num
 });
 
 test('the slate clap marked in each camera agrees with the sound within a frame', async ({ playwright, baseURL }) => {
-	const api = await apiAs(playwright, baseURL, 'reviewer');
+	const api = await apiAs(baseURL, 'reviewer');
 	const session = await demoSession(api);
 	const files: Record<string, string> = { 'Rig high': 'high.mp4', 'Rig mid': 'mid.mp4', 'Rig low (housing)': 'low.mp4' };
 	const marks = session.clips

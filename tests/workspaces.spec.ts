@@ -1,14 +1,13 @@
 import { expect, test } from '@playwright/test';
-import { e2eDatabase, PEOPLE, signInAs } from './helpers';
+import { apiAs, e2eDatabase, signInAs } from './helpers';
 
 test.describe('workspaces keep their data apart', () => {
 	let studioSession = '';
 	// Unique per run: Playwright re-runs beforeAll after a failure, on the same database.
 	const studioName = `Studio-only statue lap ${Date.now().toString(36)}`;
 
-	test.beforeAll(async ({ playwright, baseURL }) => {
-		const editor = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { origin: baseURL ?? '', accept: 'text/html' } });
-		await editor.post('/login', { form: { email: PEOPLE.editor.email, password: PEOPLE.editor.password }, maxRedirects: 0 });
+	test.beforeAll(async ({ baseURL }) => {
+		const editor = await apiAs(baseURL, 'editor');
 		const created = await editor.post('/api/sessions', { data: { name: studioName, site: 'Back lot' } });
 		expect(created.status()).toBe(201);
 		studioSession = (await created.json()).session.id;
