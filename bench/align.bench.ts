@@ -1,6 +1,6 @@
 /**
  * Accuracy and speed of `align` on every fixture case, written to bench/RESULTS.md.
- *   npm run bench:align -- [--case NAME]... [--no-generate] [--committed-only]
+ *   npm run bench:align -- [--case NAME]... [--no-generate] [--committed-only] [--repeat N]
  * Large cases are generated first (npm run fixtures -- --case NAME) unless --no-generate.
  */
 import { spawn, spawnSync } from 'node:child_process';
@@ -85,7 +85,7 @@ async function runAlign(files: string[]) {
 	const dir = mkdtempSync(join(tmpdir(), 'align-bench-'));
 	const timeFile = join(dir, 'time.txt');
 	const started = performance.now();
-	const result = await run('/usr/bin/time', ['-f', '%M %e %U %S', '-o', timeFile, join(root, 'node_modules/.bin/tsx'), join(root, 'scripts/align.ts'), '--json', ...files], {
+	const result = await run('/usr/bin/time', ['-f', '%M %e %U %S', '-o', timeFile, process.execPath, join(root, 'scripts/engine.mjs'), 'align', '--json', ...files], {
 		...process.env,
 		LOCKSTEP_ALIGN_STATS: '1'
 	});
@@ -132,7 +132,13 @@ function judge(truth: Truth, output: AlignJson, dir: string): ClipResult[] {
 	});
 }
 
-function report(results: CaseResult[], skipped: string[]): string {
+function median(values: number[]): number {
+	const sorted = [...values].sort((x, y) => x - y);
+	const middle = sorted.length >> 1;
+	return sorted.length % 2 ? sorted[middle] : (sorted[middle - 1] + sorted[middle]) / 2;
+}
+
+function report(results: CaseResult[], skipped: string[], repeat: number): string {
 	const f = (x: number | null, d: number) => (x === null ? '—' : x.toFixed(d));
 	const lines: string[] = [
 		'# Alignment benchmark',
@@ -153,7 +159,7 @@ function report(results: CaseResult[], skipped: string[]): string {
 			`| ${r.name} | ${r.mediaSeconds.toFixed(0)} | ${f(r.alignWallSeconds, 2)} | ${f(r.alignInProcessSeconds, 2)} | ${f(r.bareDecodeSeconds, 2)} | ${f(r.alignWallSeconds / r.bareDecodeSeconds, 2)} | ${r.alignInProcessSeconds === null ? '—' : f(r.alignInProcessSeconds / r.bareDecodeSeconds, 2)} | ${f(r.alignCpuSeconds, 2)} | ${f(r.bareDecodeCpuSeconds, 2)} | ${f(r.alignCpuSeconds / r.bareDecodeCpuSeconds, 2)} | ${f(r.peakRssMb, 0)} | ${f(r.loadAverage, 1)} |`
 		);
 	}
-	lines.push('', '"align wall" is the whole `tsx scripts/align.ts --json` process, TypeScript start-up (1–3 s here) included; "in-process" is from argument parsing to the printed result. Bare decode: `ffmpeg -i FILE -map 0:a:0 -vn -f null -` for every clip, ' + parallel + ' at a time (the mean of a run before and after align). CPU columns are user + system seconds of the whole process tree (GNU time), less sensitive than wall time to other work on the machine; "load avg" is the 1-minute load average around the case (2 cores: anything above 2 means the run was waiting for CPU).', '', '## Per clip', '');
+	lines.push('', '"align wall" is the whole `node scripts/engine.mjs align --json` process (what `npm run align` runs, without npm\'s own start-up), Node start-up included; "in-process" is from argument parsing to the printed result. Bare decode: `ffmpeg -i FILE -map 0:a:0 -vn -f null -` for every clip, ' + parallel + ' at a time. Align and decode take turns, each time the median of ' + repeat + ' runs. CPU columns are user + system seconds of the whole process tree (GNU time), less sensitive than wall time to other work on the machine; "load avg" is the 1-minute load average around the case (2 cores: anything above 2 means the run was waiting for CPU).', '', '## Per clip', '');
 	lines.push('| case | clip | duration s | truth | matched | confidence | mapping error ms | drift error ppm | verdict |', '|---|---|---:|---|---|---:|---:|---:|---|');
 	for (const r of results) {
 		for (const c of r.clips) {
@@ -186,6 +192,10 @@ async function main() {
 	const only = args.flatMap((a, i) => (args[i - 1] === '--case' ? [a] : []));
 	const generate = !args.includes('--no-generate');
 	const committedOnly = args.includes('--committed-only');
+	const repeatAt = args.indexOf('--repeat');
+	const repeat = repeatAt >= 0 ? Math.max(1, Number(args[repeatAt + 1]) || 1) : 3;
+	// Bundle the engine once (scripts/engine.mjs) so no case pays for it.
+	spawnSync(process.execPath, [join(root, 'scripts/engine.mjs'), 'align'], { cwd: root, stdio: 'ignore' });
 	const results: CaseResult[] = [];
 	const skipped: string[] = [];
 	for (const spec of CASES) {
@@ -204,22 +214,28 @@ async function main() {
 		const files = truth.clips.map((c) => join(dir, c.file));
 		console.error(`${spec.name}: ${files.length} clips`);
 		const loadBefore = loadavg()[0];
-		const decodeBefore = await bareDecode(files);
-		const align = await runAlign(files);
-		const decodeAfter = await bareDecode(files);
+		// Decode and align take turns, `repeat` times each, and the medians are kept: other work on a
+		// shared machine then weighs on both sides alike.
+		const decodes = [await bareDecode(files)];
+		const aligns: Awaited<ReturnType<typeof runAlign>>[] = [];
+		for (let i = 0; i < repeat; i++) {
+			aligns.push(await runAlign(files));
+			decodes.push(await bareDecode(files));
+		}
+		const align = aligns[0];
 		const clips = judge(truth, align.json, dir);
 		results.push({
 			name: spec.name,
 			description: truth.description,
 			clips,
 			reference: align.json.reference,
-			alignWallSeconds: align.wall,
-			alignInProcessSeconds: align.inProcess,
-			bareDecodeSeconds: (decodeBefore.wall + decodeAfter.wall) / 2,
-			alignCpuSeconds: align.cpu,
-			bareDecodeCpuSeconds: (decodeBefore.cpu + decodeAfter.cpu) / 2,
+			alignWallSeconds: median(aligns.map((a) => a.wall)),
+			alignInProcessSeconds: aligns.every((a) => a.inProcess !== null) ? median(aligns.map((a) => a.inProcess!)) : null,
+			bareDecodeSeconds: median(decodes.map((d) => d.wall)),
+			alignCpuSeconds: median(aligns.map((a) => a.cpu)),
+			bareDecodeCpuSeconds: median(decodes.map((d) => d.cpu)),
 			loadAverage: (loadBefore + loadavg()[0]) / 2,
-			peakRssMb: align.peakRssMb,
+			peakRssMb: Math.max(...aligns.map((a) => a.peakRssMb)),
 			mediaSeconds: truth.clips.reduce((s, c) => s + c.durationSeconds, 0)
 		});
 		const r = results[results.length - 1];
@@ -228,7 +244,7 @@ async function main() {
 				clips.map((c) => `${c.file}: ${c.verdict}${c.mappingErrorMs !== null ? ` ${c.mappingErrorMs.toFixed(3)} ms ${c.driftErrorPpm!.toFixed(2)} ppm` : ''}`).join(', ')
 		);
 	}
-	const text = report(results, skipped);
+	const text = report(results, skipped, repeat);
 	writeFileSync(join(root, 'bench', 'RESULTS.md'), text);
 	process.stdout.write(text);
 }

@@ -43,7 +43,7 @@ async function align(args: string[]): Promise<{ code: number; stdout: string; st
 
 function runAlign(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
 	return new Promise((done, fail) => {
-		const child = spawn(join(root, 'node_modules/.bin/tsx'), [join(root, 'scripts/align.ts'), ...args], { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
+		const child = spawn(process.execPath, [join(root, 'scripts/engine.mjs'), 'align', ...args], { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
 		let stdout = '';
 		let stderr = '';
 		child.stdout.on('data', (d) => (stdout += d));

@@ -24,6 +24,9 @@ export interface PairOptions {
 	windowSeconds: number;
 	/** Windows may overlap; their centres are at least this far apart. */
 	minWindowSpacingSeconds: number;
+	/** Windows per minute of overlap, between `minWindows` and `maxWindows` (and the spacing limit). */
+	windowsPerMinute: number;
+	minWindows: number;
 	maxWindows: number;
 	/** Largest clock difference searched for, in ppm. */
 	maxDriftPpm: number;
@@ -38,8 +41,13 @@ export const defaultPairOptions: PairOptions = {
 	envelopeRate: 125,
 	coarseSegmentSeconds: 60,
 	maxCoarseSegments: 6,
-	windowSeconds: 2,
+	// 1.9 s at 8 kHz plus the search margins still fits a 16384-point transform; 2 s would need 32768.
+	windowSeconds: 1.9,
 	minWindowSpacingSeconds: 1,
+	// A window every 3⅓ s on a short lap, 48 on anything over 160 s: the offset of a short clip is
+	// already far inside its tolerance with a dozen windows, and long clips need the span for drift.
+	windowsPerMinute: 18,
+	minWindows: 12,
 	maxWindows: 48,
 	maxDriftPpm: 200,
 	drift: defaultDriftFitOptions,
@@ -270,7 +278,10 @@ function measureWindow(
 	const aStart = Math.round((centerSeconds - options.windowSeconds / 2 + predicted.lagSeconds - a.startSeconds) * rate) - marginSamples;
 	const aLength = windowLength + 2 * marginSamples;
 	if (bStart < 0 || bStart + windowLength > b.samples.length || aStart < 0 || aStart + aLength > a.samples.length) return null;
+	// Circular correlation is enough: only lags 0..2·margin are read, and A's stretch covers them
+	// without wrapping, so the transform need only hold A's stretch, not both lengths added.
 	const correlation = gccPhat(a.samples.subarray(aStart, aStart + aLength), b.samples.subarray(bStart, bStart + windowLength), {
+		size: nextPowerOfTwo(aLength),
 		sampleRate: rate,
 		band: options.band,
 		phatExponent: options.phatExponent
@@ -333,7 +344,8 @@ function refine(a: AnalysisTrack, b: AnalysisTrack, coarse: { match: CoarseMatch
 	const overlapSeconds = Math.max(0, overlapEnd - overlapStart);
 	const usableStart = overlapStart + options.windowSeconds / 2 + 0.05;
 	const usableEnd = overlapEnd - options.windowSeconds / 2 - 0.05;
-	const windowCount = Math.min(options.maxWindows, Math.floor((usableEnd - usableStart) / options.minWindowSpacingSeconds) + 1);
+	const wanted = Math.min(options.maxWindows, Math.max(options.minWindows, Math.round((overlapSeconds / 60) * options.windowsPerMinute)));
+	const windowCount = Math.min(wanted, Math.floor((usableEnd - usableStart) / options.minWindowSpacingSeconds) + 1);
 	if (windowCount < 1) return unmatched('the clips barely overlap', coarse.match);
 
 	const measured: Omit<WindowMeasurement, 'inlier'>[] = [];

@@ -121,10 +121,10 @@ interface AlignJobResult {
 const STAGE_LABELS = { probe: 'Reading clips', decode: 'Decoding sound', pairs: 'Comparing clips', solve: 'Solving the timeline' } as const;
 const STAGE_SPAN = { probe: [0, 0.05], decode: [0.05, 0.5], pairs: [0.5, 0.95], solve: [0.95, 1] } as const;
 
-/** Runs the engine in a child process (scripts/align-job.ts) and stores its result. */
+/** Runs the engine in a child process (scripts/align-job.ts, bundled by scripts/engine.mjs) and stores its result. */
 function runEngine(paths: string[], referenceIndex: number | undefined, context: JobContext): Promise<AlignJobResult> {
 	return new Promise((resolve, reject) => {
-		const child = spawn(process.execPath, ['--import', 'tsx', 'scripts/align-job.ts', JSON.stringify({ paths, referenceIndex })], {
+		const child = spawn(process.execPath, ['scripts/engine.mjs', 'align-job', JSON.stringify({ paths, referenceIndex })], {
 			stdio: ['ignore', 'pipe', 'pipe'],
 			signal: context.signal
 		});

@@ -135,13 +135,54 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const sampleRate = options.analysisSampleRate ?? 8000;
 	const progress = options.onProgress ?? (() => {});
 
-	// Probe every file at once; each clip's decode starts as soon as its own probe is back.
+	// Probe every file and start decoding at once: a decode does not need its probe (the buffer is
+	// sized when the probe answers), and waiting for probes first idles the cores for a tenth of a second.
+	const stop = new AbortController();
+	const stopDecodes = () => stop.abort();
+	options.signal?.addEventListener('abort', stopDecodes, { once: true });
 	const probing = paths.map((path) => probeMedia(path));
+	for (const p of probing) p.catch(stopDecodes);
+	const ready = paths.map(() => {
+		let settle: (track: Promise<AnalysisTrack | null>) => void = () => {};
+		const promise = new Promise<AnalysisTrack | null>((resolve) => (settle = resolve));
+		promise.catch(() => {}); // a failed decode is reported from `decodes` below
+		return { promise, settle };
+	});
+	let decoded = 0;
+	// How a decoded clip is prepared is known once the probes tell how much media there is (threads or not).
+	let engineKnown: (prepare: (pcm: PcmTrack) => Promise<AnalysisTrack>) => void = () => {};
+	const engine = new Promise<(pcm: PcmTrack) => Promise<AnalysisTrack>>((resolve) => (engineKnown = resolve));
+	const decodes = mapLimited(paths, concurrency, async (path, index) => {
+		const probe = probing[index];
+		const expectedSeconds = probe.then((p) => p.durationSeconds + Math.max(0, p.audio?.startSeconds ?? 0)).catch(() => undefined);
+		try {
+			const pcm = await decodeAudio(path, { sampleRate, expectedSeconds, signal: stop.signal });
+			const prepare = await engine;
+			ready[index].settle(prepare(pcm));
+		} catch (error) {
+			// A clip without sound is aligned by nothing, not an error: its probe says so.
+			const probed = await probe.catch(() => null);
+			if (probed && !probed.audio) {
+				ready[index].settle(Promise.resolve(null));
+				return;
+			}
+			ready[index].settle(Promise.reject(error));
+			throw error;
+		} finally {
+			progress({ stage: 'decode', done: ++decoded, total: paths.length });
+		}
+	});
+
 	const probed = await Promise.allSettled(probing);
 	const failures = probed.flatMap((p, i) =>
 		p.status === 'rejected' ? [p.reason instanceof MediaReadError ? p.reason : new MediaReadError(paths[i], String(p.reason))] : []
 	);
-	if (failures.length) throw new MediaReadErrors(failures);
+	if (failures.length) {
+		engineKnown(() => Promise.reject(new MediaReadErrors(failures)));
+		await decodes;
+		options.signal?.removeEventListener('abort', stopDecodes);
+		throw new MediaReadErrors(failures);
+	}
 	const probes = probed.flatMap((p) => (p.status === 'fulfilled' ? [p.value] : []));
 	progress({ stage: 'probe', done: probes.length, total: probes.length });
 
@@ -158,38 +199,17 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			})
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
-	const prepare = async (pcm: PcmTrack): Promise<AnalysisTrack> => {
+	engineKnown(async (pcm: PcmTrack): Promise<AnalysisTrack> => {
 		const result = await runTask({ kind: 'prepare', pcm, options: pairOptions });
 		if (result.kind !== 'prepare') throw new Error('align worker answered a prepare task with a pair');
 		return result.track;
-	};
+	});
 	const estimate = async (a: AnalysisTrack, b: AnalysisTrack): Promise<PairEstimate> => {
 		const result = await runTask({ kind: 'pair', a, b, options: pairOptions });
 		if (result.kind !== 'pair') throw new Error('align worker answered a pair task with a track');
 		return result.estimate;
 	};
 	try {
-		// One promise per clip, settled when its audio is decoded and prepared, so pairs start as
-		// soon as both of their clips are ready while other clips are still decoding.
-		const ready = probes.map(() => {
-			let settle: (track: Promise<AnalysisTrack | null>) => void = () => {};
-			const promise = new Promise<AnalysisTrack | null>((resolve) => (settle = resolve));
-			promise.catch(() => {}); // a failed decode is reported from `decodes` below
-			return { promise, settle };
-		});
-		let decoded = 0;
-		const decodes = mapLimited(probes, concurrency, async (probe, index) => {
-			if (!probe.audio) {
-				ready[index].settle(Promise.resolve(null));
-				return;
-			}
-			const expectedSeconds = probe.durationSeconds + Math.max(0, probe.audio.startSeconds);
-			const pcm = decodeAudio(probe.path, { sampleRate, expectedSeconds, signal: options.signal });
-			ready[index].settle(pcm.then(prepare));
-			await pcm;
-			progress({ stage: 'decode', done: ++decoded, total: probes.length });
-		});
-
 		const pairIndices: [number, number][] = [];
 		for (let a = 0; a < paths.length; a++) for (let b = a + 1; b < paths.length; b++) pairIndices.push([a, b]);
 		let pairsDone = 0;
@@ -241,6 +261,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		});
 		return { referenceIndex: solution.referenceIndex, clips, pairs: pairResults, solution, commonSpan: commonSpanOf(clips) };
 	} finally {
+		options.signal?.removeEventListener('abort', stopDecodes);
 		await pool?.destroy();
 		worker?.cleanup();
 	}

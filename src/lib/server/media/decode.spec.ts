@@ -17,6 +17,18 @@ function clickSeconds(samples: Float32Array): number {
 	return best / sampleRate;
 }
 
+/** The shift (samples) of `b` against `a` that best matches a stretch of `a`: direct correlation over ±maxShift. */
+function bestShift(a: Float32Array, b: Float32Array, from: number, length: number, maxShift: number): number {
+	let best = 0;
+	let bestValue = Number.NEGATIVE_INFINITY;
+	for (let shift = -maxShift; shift <= maxShift; shift++) {
+		let sum = 0;
+		for (let i = from; i < from + length; i++) sum += a[i] * b[i + shift];
+		if (sum > bestValue) [best, bestValue] = [shift, sum];
+	}
+	return best;
+}
+
 beforeAll(() => {
 	dir = mkdtempSync(join(tmpdir(), 'decode-spec-'));
 	const { ffmpegPath } = mediaBinaries();
@@ -52,6 +64,28 @@ describe('decodeAudio', () => {
 		expect(Math.abs(clickSeconds(pcm.samples) - 1.501)).toBeLessThan(1.5e-3);
 		// Leading silence fills the gap before the audio's first sample.
 		expect(Math.max(...pcm.samples.subarray(0, Math.round(0.4 * sampleRate)).map(Math.abs))).toBe(0);
+	});
+
+	it('places the sound at the same samples with soxr and with ffmpeg\'s own resampler', async () => {
+		const decodeBoth = (path: string) =>
+			Promise.all((['soxr', 'swr'] as const).map((resampler) => decodeAudio(path, { sampleRate, resampler })));
+		const [soxr, swr] = await decodeBoth(join(dir, 'click.mp4'));
+		expect(soxr.samples.length).toBe(swr.samples.length);
+		expect(Math.abs(clickSeconds(soxr.samples) - clickSeconds(swr.samples))).toBeLessThanOrEqual(1 / sampleRate);
+		// A phone clip whose audio starts 100 ms late with its AAC priming in view (fixtures/vfr-phone/truth.json):
+		// the padding must not pick up the resampler's filter delay (it did, by 399 samples, when soxr padded).
+		const [soxrPhone, swrPhone] = await decodeBoth('fixtures/vfr-phone/phone.mp4');
+		expect(soxrPhone.samples.length).toBe(swrPhone.samples.length);
+		expect(bestShift(swrPhone.samples, soxrPhone.samples, 5 * sampleRate, sampleRate, 800)).toBe(0);
+	});
+
+	it('grows its buffer when the length is unknown or arrives late, losing no sample', async () => {
+		const known = await decodeAudio(join(dir, 'click.mp4'), { sampleRate, expectedSeconds: 3 });
+		// A 0.01 s guess that is corrected only after the decode has begun, and no guess at all.
+		const late = await decodeAudio(join(dir, 'click.mp4'), { sampleRate, expectedSeconds: new Promise((r) => setTimeout(() => r(3), 20)) });
+		const unknown = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate });
+		expect(late.samples).toEqual(known.samples);
+		expect(unknown.samples.length).toBeGreaterThan(3.4 * sampleRate);
 	});
 
 	it('fails with one clear reason for a file that is not media', async () => {
