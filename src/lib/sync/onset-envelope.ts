@@ -36,11 +36,12 @@ export function highPassBiquad(cutoffHz: number, sampleRate: number): Biquad {
 }
 
 export function onsetEnvelope(
-	samples: Float32Array,
+	samples: Float32Array | Int16Array,
 	sampleRate: number,
 	startSeconds: number,
-	options: { rate?: number; highPassHz?: number } = {}
+	options: { rate?: number; highPassHz?: number; fullScale?: number } = {}
 ): OnsetEnvelope {
+	const fullScale = options.fullScale ?? 1;
 	const hop = Math.max(1, Math.round(sampleRate / (options.rate ?? 250)));
 	const rate = sampleRate / hop;
 	const filter = highPassBiquad(options.highPassHz ?? 300, sampleRate);
@@ -50,7 +51,8 @@ export function onsetEnvelope(
 	let x1 = 0, x2 = 0, y1 = 0, y2 = 0, z1 = 0, z2 = 0;
 	const { b0, b1, b2, a1, a2 } = filter;
 	let previousLog = 0;
-	const floor = 1e-10;
+	// The log's floor, in the samples' own units: −100 dBFS of energy.
+	const floor = 1e-10 * fullScale * fullScale;
 	let index = 0;
 	let squares = 0;
 	for (let frame = 0; frame < count; frame++) {
@@ -73,5 +75,5 @@ export function onsetEnvelope(
 		previousLog = logEnergy;
 	}
 	for (; index < samples.length; index++) squares += samples[index] * samples[index];
-	return { values, rate, startSeconds: startSeconds + hop / sampleRate / 2, rms: Math.sqrt(squares / Math.max(samples.length, 1)) };
+	return { values, rate, startSeconds: startSeconds + hop / sampleRate / 2, rms: Math.sqrt(squares / Math.max(samples.length, 1)) / fullScale };
 }

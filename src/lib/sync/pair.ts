@@ -93,7 +93,8 @@ export interface PairEstimate extends PairRelation {
 export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
 	const envelope = onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, {
 		rate: options.envelopeRate,
-		highPassHz: options.band.lowHz
+		highPassHz: options.band.lowHz,
+		fullScale: pcm.fullScale
 	});
 	return {
 		pcm,

@@ -11,14 +11,14 @@ let dir = '';
 const sampleRate = 8000;
 
 /** Index of the loudest sample: where the click is. */
-function clickSeconds(samples: Float32Array): number {
+function clickSeconds(samples: ArrayLike<number>): number {
 	let best = 0;
 	for (let i = 1; i < samples.length; i++) if (Math.abs(samples[i]) > Math.abs(samples[best])) best = i;
 	return best / sampleRate;
 }
 
 /** The shift (samples) of `b` against `a` that best matches a stretch of `a`: direct correlation over ±maxShift. */
-function bestShift(a: Float32Array, b: Float32Array, from: number, length: number, maxShift: number): number {
+function bestShift(a: ArrayLike<number>, b: ArrayLike<number>, from: number, length: number, maxShift: number): number {
 	let best = 0;
 	let bestValue = Number.NEGATIVE_INFINITY;
 	for (let shift = -maxShift; shift <= maxShift; shift++) {
