@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { clipTimeOf, frameAt, nearestFrame, sessionTimeOf, type FrameTiming } from './frames';
+import { clipTimeOf, frameAt, frameSpanSeconds, nearestFrame, sessionTimeOf, type FrameTiming } from './frames';
 import { formatRational, parseRational, rational, rationalToNumber } from './rational';
 
 describe('rational frame rates', () => {
@@ -39,6 +39,25 @@ describe('frameAt', () => {
 		expect(nearestFrame(0.245, frames)).toBe(5);
 		expect(nearestFrame(0.3, frames)).toBeNull();
 		expect(nearestFrame(-0.05, frames)).toBeNull();
+	});
+});
+
+describe('frameSpanSeconds', () => {
+	it('ends half a frame after the last frame, where nearestFrame stops answering', () => {
+		// 30 fps, 74 s of media but the last of 2220 frames at 2219/30 s (the demo's low camera): audio runs on a frame past it.
+		const frames: FrameTiming = { kind: 'constant', frameRate: { num: 30, den: 1 }, firstFrameSeconds: 0, frameCount: 2220 };
+		const span = frameSpanSeconds(frames)!;
+		expect(span.start).toBeCloseTo(-1 / 60, 12);
+		expect(span.end).toBeCloseTo(2219 / 30 + 1 / 60, 12);
+		expect(span.end).toBeLessThan(74);
+		expect(nearestFrame(span.end - 1e-9, frames)).toBe(2219);
+		expect(nearestFrame(span.end + 1e-6, frames)).toBeNull();
+		const variable: FrameTiming = { kind: 'variable', frameTimesSeconds: [0.1, 0.133, 0.2, 0.24] };
+		const variableSpan = frameSpanSeconds(variable)!;
+		expect(variableSpan.start).toBeCloseTo(0.1 - 0.033 / 2, 12);
+		expect(variableSpan.end).toBeCloseTo(0.24 + 0.04 / 2, 12);
+		expect(nearestFrame(variableSpan.end + 1e-6, variable)).toBeNull();
+		expect(frameSpanSeconds({ kind: 'variable', frameTimesSeconds: [] })).toBeNull();
 	});
 });
 

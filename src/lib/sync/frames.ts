@@ -37,6 +37,24 @@ export function frameTimeSeconds(index: number, frames: FrameTiming): number {
 	return frames.firstFrameSeconds + (index * frames.frameRate.den) / frames.frameRate.num;
 }
 
+/**
+ * The clip times a frame can answer for: from half a frame before the first frame to half a frame
+ * after the last (the same limits `nearestFrame` keeps). Audio often runs on past the last frame;
+ * an instant there would be shown by a frame more than half a frame away.
+ */
+export function frameSpanSeconds(frames: FrameTiming): { start: number; end: number } | null {
+	const count = frameCountOf(frames);
+	if (count === 0) return null;
+	if (frames.kind === 'constant') {
+		const halfFrame = frameDurationSeconds(frames.frameRate) / 2;
+		return { start: frames.firstFrameSeconds - halfFrame, end: frameTimeSeconds(count - 1, frames) + halfFrame };
+	}
+	const times = frames.frameTimesSeconds;
+	const firstGap = count > 1 ? times[1] - times[0] : 0;
+	const lastGap = count > 1 ? times[count - 1] - times[count - 2] : 0;
+	return { start: times[0] - firstGap / 2, end: times[count - 1] + lastGap / 2 };
+}
+
 /** Index of the frame whose presentation time is nearest to clipTime, or null beyond the clip's frames. */
 export function nearestFrame(clipTimeSeconds: number, frames: FrameTiming): number | null {
 	const count = frameCountOf(frames);

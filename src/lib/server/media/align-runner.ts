@@ -3,7 +3,7 @@ import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { Piscina } from 'piscina';
-import { sessionTimeOf, frameAt, type FrameTiming } from '../../sync/frames';
+import { sessionTimeOf, frameAt, frameSpanSeconds, type FrameTiming } from '../../sync/frames';
 import { defaultPairOptions, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
 import { solveSession, type SessionSolution } from '../../sync/solve';
 import type { PcmTrack } from '../../sync/types';
@@ -267,14 +267,21 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	}
 }
 
+/**
+ * Where every matched clip has media and, for clips with video, a frame within half a frame of
+ * each instant: a timing table over this span names a frame for every camera at every row.
+ */
 export function commonSpanOf(clips: AlignedClip[]): { start: number; end: number } | null {
 	let start = Number.NEGATIVE_INFINITY;
 	let end = Number.POSITIVE_INFINITY;
 	for (const clip of clips) {
 		if (!clip.matched || clip.offsetSeconds === null || clip.driftPpm === null) continue;
 		const placement = { offsetSeconds: clip.offsetSeconds, driftPpm: clip.driftPpm };
-		start = Math.max(start, sessionTimeOf(clip.mediaSpan.start, placement));
-		end = Math.min(end, sessionTimeOf(clip.mediaSpan.end, placement));
+		const frameSpan = clip.frames ? frameSpanSeconds(clip.frames) : null;
+		const clipStart = frameSpan ? Math.max(clip.mediaSpan.start, frameSpan.start) : clip.mediaSpan.start;
+		const clipEnd = frameSpan ? Math.min(clip.mediaSpan.end, frameSpan.end) : clip.mediaSpan.end;
+		start = Math.max(start, sessionTimeOf(clipStart, placement));
+		end = Math.min(end, sessionTimeOf(clipEnd, placement));
 	}
 	return Number.isFinite(start) && Number.isFinite(end) && end > start ? { start, end } : null;
 }
