@@ -2,7 +2,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
-import { Piscina } from 'piscina';
+import type { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, frameSpanSeconds, type FrameTiming } from '../../sync/frames';
 import { defaultPairOptions, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
 import { solveSession, type SessionSolution } from '../../sync/solve';
@@ -189,8 +189,10 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const totalSeconds = probes.reduce((sum, p) => sum + p.durationSeconds, 0);
 	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 300);
 	const worker = usePool ? await workerFile() : null;
-	const pool = worker
-		? new Piscina<AlignTask, AlignTaskResult>({
+	// Loaded only when threads are used: a few laps of a statue align faster without them.
+	const PiscinaPool = worker ? (await import('piscina')).Piscina : null;
+	const pool: Piscina<AlignTask, AlignTaskResult> | null = worker && PiscinaPool
+		? new PiscinaPool<AlignTask, AlignTaskResult>({
 				filename: worker.url,
 				maxThreads: concurrency,
 				minThreads: concurrency,
