@@ -47,9 +47,28 @@ export function realSpectrum(signal: ArrayLike<number>, size: number, offset = 0
  * O_k = (X_k − X̄_{M−k})·e^{2πik/size}/2 are the spectra of the even and odd samples, and the
  * inverse of E + iO interleaves them (the standard packing of two real sequences in one complex one).
  */
+const twiddleCache = new Map<number, Float64Array>();
+
+/** cos and sin of 2πk/size for k < size/2, interleaved: the same few sizes recur for every window. */
+function twiddles(size: number): Float64Array {
+	let table = twiddleCache.get(size);
+	if (!table) {
+		table = new Float64Array(size);
+		for (let k = 0; k < size / 2; k++) {
+			const angle = (2 * Math.PI * k) / size;
+			table[2 * k] = Math.cos(angle);
+			table[2 * k + 1] = Math.sin(angle);
+		}
+		if (twiddleCache.size > 8) twiddleCache.clear();
+		twiddleCache.set(size, table);
+	}
+	return table;
+}
+
 export function inverseRealSpectrum(halfSpectrum: Float64Array, size: number): Float64Array {
 	const m = size / 2;
 	const packed = new Float64Array(2 * m);
+	const table = twiddles(size);
 	for (let k = 0; k < m; k++) {
 		const xr = halfSpectrum[2 * k];
 		const xi = halfSpectrum[2 * k + 1];
@@ -59,9 +78,8 @@ export function inverseRealSpectrum(halfSpectrum: Float64Array, size: number): F
 		const ei = 0.5 * (xi + yi);
 		const dr = 0.5 * (xr - yr);
 		const di = 0.5 * (xi - yi);
-		const angle = (2 * Math.PI * k) / size;
-		const c = Math.cos(angle);
-		const s = Math.sin(angle);
+		const c = table[2 * k];
+		const s = table[2 * k + 1];
 		const or = dr * c - di * s;
 		const oi = dr * s + di * c;
 		packed[2 * k] = er - oi;
