@@ -151,7 +151,14 @@ test('a processor API token exports every format; errors come in the common shap
 
 	const db = e2eDatabase();
 	const byToken = db.prepare('select count(*) as n from exports where api_token_id is not null').get() as { n: number };
+	// The script was fetched twice in a row: two export records, one line in the session's activity.
+	const scriptExports = db.prepare("select count(*) as n from exports where session_id = ? and format = 'script' and api_token_id is not null").get(demoSessionId()) as { n: number };
+	const scriptActivity = db
+		.prepare("select count(*) as n from activity where session_id = ? and kind = 'exported' and message like '%extraction script%by API token%'")
+		.get(demoSessionId()) as { n: number };
 	db.close();
 	expect(byToken.n).toBeGreaterThanOrEqual(5);
+	expect(scriptExports.n).toBeGreaterThanOrEqual(2);
+	expect(scriptActivity.n).toBeLessThan(scriptExports.n);
 	await api.dispose();
 });

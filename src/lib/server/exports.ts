@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
-import { desc, eq } from 'drizzle-orm';
+import { and, desc, eq, gt, isNull } from 'drizzle-orm';
 import { z } from 'zod';
 import { fileStem } from '$lib/sync/exporters/common';
 import { clipsCsv, instantsCsv } from '$lib/sync/exporters/csv';
@@ -263,6 +263,22 @@ export async function createExport(allowed: Allowed, sessionId: string, params: 
 	});
 	const id = newId();
 	db.transaction(() => {
+		// A script polling the same table, or a person downloading it again, is one event in the
+		// feed; every download still has its own export record (and its line in the history).
+		const sameExportLately = db
+			.select({ id: exportRecords.id })
+			.from(exportRecords)
+			.where(
+				and(
+					eq(exportRecords.sessionId, session.id),
+					eq(exportRecords.sessionVersion, session.version),
+					eq(exportRecords.format, format),
+					allowed.userId === null ? isNull(exportRecords.userId) : eq(exportRecords.userId, allowed.userId),
+					allowed.tokenId === null ? isNull(exportRecords.apiTokenId) : eq(exportRecords.apiTokenId, allowed.tokenId),
+					gt(exportRecords.createdAt, new Date(Date.now() - REPEAT_EXPORT_QUIET_MS))
+				)
+			)
+			.get();
 		db.insert(exportRecords)
 			.values({
 				id,
@@ -277,7 +293,7 @@ export async function createExport(allowed: Allowed, sessionId: string, params: 
 				byteSize
 			})
 			.run();
-		recordActivity(allowed.scope, {
+		if (!sameExportLately) recordActivity(allowed.scope, {
 			sessionId: session.id,
 			userId: allowed.userId,
 			kind: 'exported',
@@ -286,6 +302,9 @@ export async function createExport(allowed: Allowed, sessionId: string, params: 
 	});
 	return { ...file, id, sha256, byteSize };
 }
+
+/** Within this long, the same person's export of the same revision and format adds no activity entry. */
+export const REPEAT_EXPORT_QUIET_MS = 10 * 60 * 1000;
 
 export function exportsOfSession(scope: WorkspaceScope, sessionId: string, limit = 8) {
 	return db
