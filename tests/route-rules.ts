@@ -121,6 +121,7 @@ export const ROUTE_RULES: RouteRule[] = [
 	{ route: '/api/clips/[id=id]', method: 'GET', path: '/api/clips/no-such-clip', expect: readProbe },
 	{ route: '/api/clips/[id=id]', method: 'PATCH', path: '/api/clips/no-such-clip', body: 'json', expect: editorProbe },
 	{ route: '/api/clips/[id=id]/peaks', method: 'GET', path: '/api/clips/no-such-clip/peaks?end=1', expect: readProbe },
+	{ route: '/api/clips/[id=id]/samples', method: 'GET', path: '/api/clips/no-such-clip/samples?start=0&end=0.01', expect: readProbe },
 	{ route: '/api/clips/[id=id]/proxy', method: 'GET', path: '/api/clips/no-such-clip/proxy', expect: readProbe },
 	{ route: '/', method: 'GET', path: '/', expect: everyone },
 	{ route: '/login', method: 'GET', path: '/login', expect: everyone },

@@ -107,6 +107,41 @@ test('nudging by keyboard moves the stored offset by exactly one sample, one mil
 	await restore(page.request, id, before);
 });
 
+test('at the deepest zoom a lane draws single samples, and a one-sample nudge moves them by one sample', async ({ page }) => {
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	const mid = clipNamed(before, 'Rig mid');
+	await openWorkbench(page, id);
+	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
+	// The second lap, where every camera has sound; zooming keeps the playhead in place.
+	const ruler = (await page.getByTestId('ruler').boundingBox())!;
+	await page.mouse.click(ruler.x + ruler.width * 0.43, ruler.y + 10);
+	const trace = page.locator(`[data-testid="lane"][data-clip="${mid.id}"] [data-testid="sample-trace"]`);
+	await expect(trace).toHaveCount(0);
+	const samplesFetched = page.waitForResponse((r) => r.url().includes(`/api/clips/${mid.id}/samples?`) && r.status() === 200);
+	for (let i = 0; i < 20; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
+	const window = (await (await samplesFetched).json()) as { sampleRate: number; startSample: number; samples: number[] };
+	expect(window.sampleRate).toBe(48000);
+	expect(window.samples.length).toBeGreaterThan(10);
+	expect(window.samples.some((v) => v !== 0), 'the square is heard here').toBe(true);
+	await expect(trace).toHaveAttribute('data-first-sample-x', /\d/);
+	const pxPerSample = Number(await trace.getAttribute('data-px-per-sample'));
+	// At the deepest zoom (16 px a 48 kHz sample) each sample is a dot of its own.
+	expect(pxPerSample).toBeGreaterThan(10);
+	const xBefore = Number(await trace.getAttribute('data-first-sample-x'));
+	const firstSample = await trace.getAttribute('data-first-sample');
+
+	await page.keyboard.press(']');
+	await waitSaved(page);
+	expect(clipNamed(await stored(page.request, id), 'Rig mid').offsetSeconds - mid.offsetSeconds).toBeCloseTo(1 / 48000, 12);
+	await expect(trace).not.toHaveAttribute('data-first-sample-x', xBefore.toFixed(3));
+	expect(await trace.getAttribute('data-first-sample')).toBe(firstSample);
+	// The same sample is drawn one sample's width later (×(1 + drift) on the session timeline, under 1e-4 here).
+	expect(Number(await trace.getAttribute('data-first-sample-x')) - xBefore).toBeCloseTo(pxPerSample, 1);
+	await restore(page.request, id, before);
+});
+
 test('dragging the usable span handles stores the span shown', async ({ page }) => {
 	await signInAs(page, 'editor');
 	const id = await demoSessionId(page.request);
@@ -206,4 +241,8 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	for (let i = 0; i < 10; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
 	await page.waitForTimeout(1200);
 	await page.screenshot({ path: 'screens/workbench-deep-zoom.png' });
+	for (let i = 0; i < 4; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
+	await expect(page.getByTestId('sample-trace').first()).toHaveAttribute('data-first-sample-x', /\d/);
+	await page.waitForTimeout(600);
+	await page.screenshot({ path: 'screens/workbench-single-samples.png' });
 });
