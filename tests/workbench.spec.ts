@@ -230,8 +230,16 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	await page.waitForTimeout(300);
 	await page.screenshot({ path: 'screens/workbench-whole-session-dark.png', fullPage: true });
 	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
-	await page.getByRole('button', { name: 'Show drift fit' }).click();
-	await expect(page.getByTestId('drift-plot').locator('canvas')).toBeVisible();
+	await page.getByRole('button', { name: 'Show correlation and drift fit' }).click();
+	await expect(page.getByRole('figure', { name: 'Drift fit' }).locator('canvas')).toBeVisible();
+	// The correlation kept by the engine: a curve around the chosen lag and three runner-up peaks, each weaker than it.
+	const correlation = page.getByTestId('correlation-plot');
+	await expect(correlation.locator('canvas')).toBeVisible();
+	const heights = await correlation.getByRole('table', { name: 'Runner-up peaks' }).locator('tbody tr td:last-child').allTextContents();
+	// Shown as a share of the chosen peak, in per cent.
+	expect(heights).toHaveLength(3);
+	for (const height of heights) expect(Number(height.split(' ')[0])).toBeLessThan(100);
+	await page.getByTestId('drift-plot').screenshot({ path: 'screens/workbench-correlation-and-drift-fit.png' });
 	// Put the playhead on the second lap (zoom keeps it in place), where all three cameras hear the square.
 	const ruler = (await page.getByTestId('ruler').boundingBox())!;
 	await page.mouse.click(ruler.x + ruler.width * 0.43, ruler.y + 10);
