@@ -228,6 +228,7 @@ function snapshotClip(c: Clip): ClipPatch {
 		offsetSeconds: c.offsetSeconds,
 		driftPpm: c.driftPpm,
 		syncMethod: c.syncMethod,
+		matched: c.matched,
 		locked: c.locked,
 		trimStartSeconds: c.trimStartSeconds,
 		trimEndSeconds: c.trimEndSeconds
@@ -480,7 +481,7 @@ function stateAfter(scope: WorkspaceScope, sessionId: string, target: Revision, 
 		if (before.usableSpan) state.usableSpan = { ...before.usableSpan };
 		for (const c of before.clips ?? []) {
 			const entry = state.clips?.find((s) => s.clipId === c.clipId);
-			if (entry) Object.assign(entry, pick(c, ['offsetSeconds', 'driftPpm', 'syncMethod', 'locked', 'trimStartSeconds', 'trimEndSeconds']));
+			if (entry) Object.assign(entry, pick(c, ['offsetSeconds', 'driftPpm', 'syncMethod', 'matched', 'locked', 'trimStartSeconds', 'trimEndSeconds']));
 		}
 	}
 	return state;
@@ -503,7 +504,7 @@ function difference(current: AlignmentPatch, target: AlignmentPatch): { from: Al
 	for (const now of current.clips ?? []) {
 		const then = target.clips?.find((c) => c.clipId === now.clipId);
 		if (!then) continue;
-		const keys = (['offsetSeconds', 'driftPpm', 'syncMethod', 'locked', 'trimStartSeconds', 'trimEndSeconds'] as const).filter((k) => now[k] !== then[k]);
+		const keys = (['offsetSeconds', 'driftPpm', 'syncMethod', 'matched', 'locked', 'trimStartSeconds', 'trimEndSeconds'] as const).filter((k) => now[k] !== then[k]);
 		if (keys.length === 0) continue;
 		from.clips!.push({ clipId: now.clipId, ...pick(now, [...keys]) });
 		to.clips!.push({ clipId: now.clipId, ...pick(then, [...keys]) });
