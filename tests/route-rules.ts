@@ -149,6 +149,12 @@ export const ROUTE_RULES: RouteRule[] = [
 	{ route: '/api/sessions/[id=id]/imports', method: 'POST', path: '/api/sessions/{session}/imports', body: 'json', expect: editorOfSession },
 	// The alignment workbench and its JSON routes.
 	{ route: '/sessions/[id=id]/align', method: 'GET', path: '/sessions/{session}/align', expect: readSession },
+	{ route: '/sessions/[id=id]/align', method: 'POST ?/placement', path: '/sessions/{session}/align?/placement', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]/align', method: 'POST ?/reference', path: '/sessions/{session}/align?/reference', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]/align', method: 'POST ?/lock', path: '/sessions/{session}/align?/lock', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]/align', method: 'POST ?/usableSpan', path: '/sessions/{session}/align?/usableSpan', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]/align', method: 'POST ?/trim', path: '/sessions/{session}/align?/trim', body: 'form', expect: editorOfSession },
+	{ route: '/sessions/[id=id]/align', method: 'POST ?/revert', path: '/sessions/{session}/align?/revert', body: 'form', expect: editorOfSession },
 	{ route: '/api/sessions/[id=id]/alignment', method: 'GET', path: '/api/sessions/{session}/alignment', expect: readSession },
 	{ route: '/api/sessions/[id=id]/alignment', method: 'POST', path: '/api/sessions/{session}/alignment', body: 'json', expect: editorOfSession },
 	{ route: '/api/sessions/[id=id]/revisions', method: 'GET', path: '/api/sessions/{session}/revisions', expect: readSession },

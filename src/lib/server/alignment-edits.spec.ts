@@ -91,3 +91,42 @@ describe('the alignment job’s revision', () => {
 		expect(stateOf()).toEqual(afterRun);
 	}, 180_000);
 });
+
+describe('the workbench’s plain forms', () => {
+	const refusalOf = (work: () => unknown) => {
+		try {
+			work();
+		} catch (err) {
+			return err instanceof Error ? err.message : String(err);
+		}
+		return null;
+	};
+
+	it('refuse what cannot be read as the change in words, storing nothing', () => {
+		const { session, clips } = m.edits.workbenchOf(scope, sessionId);
+		const clip = clips.find((c) => c.cameraLabel === 'Mid')!;
+		const version = String(session.version);
+		const placement = (fields: Record<string, string>) => refusalOf(() => m.edits.applyPlacementForm(scope, sessionId, editorId, { clipId: clip.id, version, ...fields }));
+		expect(placement({ offsetSeconds: 'two' })).toBe('Give the offset in seconds as a number, e.g. 2.5.');
+		expect(placement({ offsetSeconds: '', driftPpm: '' })).toBe('Mid already has that offset and drift.');
+		expect(placement({ version: '', offsetSeconds: '3' })).toBe('Give the session version your change is based on (reload the page).');
+		expect(placement({ version: String(session.version - 1), offsetSeconds: '3' })).toMatch(/^Eli .* the session is now at version \d+\. Your change was not saved/);
+		expect(refusalOf(() => m.edits.applyLockForm(scope, sessionId, editorId, { clipId: clip.id, version, locked: 'maybe' }))).toBe('Say locked: true or false.');
+		expect(refusalOf(() => m.edits.applyUsableSpanForm(scope, sessionId, editorId, { version, startSeconds: '10' }))).toBe('Give the span end in seconds.');
+		expect(refusalOf(() => m.edits.revertForm(scope, sessionId, editorId, { version, revisionId: 'no-such-revision' }))).toBe('No such revision of this capture session.');
+		expect(m.edits.workbenchOf(scope, sessionId).session.version).toBe(session.version);
+	});
+
+	it('apply a typed offset and drift as two changes, the second based on the first', () => {
+		const { session, clips } = m.edits.workbenchOf(scope, sessionId);
+		const clip = clips.find((c) => c.cameraLabel === 'Mid')!;
+		const outcome = m.edits.applyPlacementForm(scope, sessionId, editorId, { clipId: clip.id, version: String(session.version), offsetSeconds: '2.5', driftPpm: '-45', reason: 'typed' });
+		expect(outcome.session.version).toBe(session.version + 2);
+		const stored = outcome.clips.find((c) => c.id === clip.id)!;
+		expect([stored.offsetSeconds, stored.driftPpm, stored.syncMethod]).toEqual([2.5, -45, 'manual']);
+		expect(outcome.revisions.slice(0, 2).map((r) => [r.kind, r.reason])).toEqual([
+			['drift', 'typed'],
+			['offset', 'typed']
+		]);
+	});
+});
