@@ -53,16 +53,24 @@ export function sampleWindowArguments(mediaPath: string, sampleRate: number, fir
 	];
 }
 
-export async function readSampleWindow(mediaPath: string, sampleRate: number, durationSeconds: number, startSeconds: number, endSeconds: number): Promise<SampleWindow> {
+export async function readSampleWindow(
+	mediaPath: string,
+	sampleRate: number,
+	durationSeconds: number,
+	startSeconds: number,
+	endSeconds: number,
+	signal?: AbortSignal
+): Promise<SampleWindow> {
 	const { first, end } = sampleRange(sampleRate, durationSeconds, startSeconds, endSeconds);
-	const child = spawn(mediaBinaries().ffmpegPath, sampleWindowArguments(mediaPath, sampleRate, first, end), { stdio: ['ignore', 'pipe', 'pipe'] });
+	const child = spawn(mediaBinaries().ffmpegPath, sampleWindowArguments(mediaPath, sampleRate, first, end), { stdio: ['ignore', 'pipe', 'pipe'], signal });
 	const chunks: Buffer[] = [];
 	let stderr = '';
 	child.stdout.on('data', (chunk: Buffer) => chunks.push(chunk));
 	child.stderr.setEncoding('utf8');
 	child.stderr.on('data', (t: string) => (stderr = (stderr + t).slice(-2000)));
 	await new Promise<void>((resolve, reject) => {
-		child.on('error', reject);
+		// A caller that went away is not a server fault: answered as a refusal nobody will read (499, as nginx logs it).
+		child.on('error', (err) => reject(signal?.aborted ? new Refusal('cancelled', 'The request was cancelled before the samples were decoded.', 499) : err));
 		child.on('close', (code) => (code === 0 ? resolve() : reject(new Error(`ffmpeg could not decode the window: ${stderr.trim().split('\n').pop() ?? code}`))));
 	});
 	const bytes = Buffer.concat(chunks);
