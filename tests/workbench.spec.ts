@@ -132,6 +132,16 @@ test('at the deepest zoom a lane draws single samples, and a one-sample nudge mo
 	const xBefore = Number(await trace.getAttribute('data-first-sample-x'));
 	const firstSample = await trace.getAttribute('data-first-sample');
 
+	// The window endpoint refuses what it cannot serve, saying why.
+	const refusal = async (query: string) => {
+		const response = await page.request.get(`/api/clips/${mid.id}/samples?${query}`);
+		return [response.status(), ((await response.json()) as { error: { message: string } }).error.message];
+	};
+	expect(await refusal('start=2&end=1')).toEqual([400, 'end must be after start.']);
+	expect(await refusal('start=1&end=2')).toEqual([400, 'Ask for at most 32768 samples at a time (0.683 s at 48000 Hz); use the peaks for longer windows.']);
+	expect(await refusal('start=500&end=500.1')).toEqual([400, 'start is past the end of the clip (82.000 s).']);
+	expect(await refusal('end=1')).toEqual([400, 'Give start as seconds of clip time.']);
+
 	await page.keyboard.press(']');
 	await waitSaved(page);
 	expect(clipNamed(await stored(page.request, id), 'Rig mid').offsetSeconds - mid.offsetSeconds).toBeCloseTo(1 / 48000, 12);
@@ -239,7 +249,6 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	// Shown as a share of the chosen peak, in per cent.
 	expect(heights).toHaveLength(3);
 	for (const height of heights) expect(Number(height.split(' ')[0])).toBeLessThan(100);
-	await page.getByTestId('drift-plot').screenshot({ path: 'screens/workbench-correlation-and-drift-fit.png' });
 	// Put the playhead on the second lap (zoom keeps it in place), where all three cameras hear the square.
 	const ruler = (await page.getByTestId('ruler').boundingBox())!;
 	await page.mouse.click(ruler.x + ruler.width * 0.43, ruler.y + 10);
@@ -249,8 +258,12 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	for (let i = 0; i < 10; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
 	await page.waitForTimeout(1200);
 	await page.screenshot({ path: 'screens/workbench-deep-zoom.png' });
-	for (let i = 0; i < 4; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
+	// Out two steps from the deepest zoom: 4 px a sample, a few milliseconds of wave drawn sample by sample.
+	for (let i = 0; i < 2; i++) await page.getByRole('button', { name: 'Zoom out' }).click();
+	await expect(page.getByTestId('sample-trace').first()).toHaveAttribute('data-px-per-sample', /^4\.0/);
 	await expect(page.getByTestId('sample-trace').first()).toHaveAttribute('data-first-sample-x', /\d/);
 	await page.waitForTimeout(600);
 	await page.screenshot({ path: 'screens/workbench-single-samples.png' });
+	// Last: an element screenshot scrolls the page, and the ruler clicks above need it at the top.
+	await page.getByTestId('drift-plot').screenshot({ path: 'screens/workbench-correlation-and-drift-fit.png' });
 });

@@ -16,7 +16,8 @@ export const GET: RequestHandler = async (event) => {
 	const clip = scope.clip(event.params.id);
 	return answer(async () => {
 		const { start, end } = parseInput(Window, Object.fromEntries(event.url.searchParams));
-		if (!clip.sampleRate || clip.durationSeconds === null) throw new Refusal('not_ready', 'This clip has not been probed yet; try again shortly.', 409);
+		if (clip.durationSeconds === null) throw new Refusal('not_ready', 'This clip has not been probed yet; try again shortly.', 409);
+		if (!clip.sampleRate) throw new Refusal('no_audio', 'This clip has no sound, so it has no samples to show.', 409);
 		// A caller that has gone (the workbench scrolled on) stops the decode.
 		const window = await readSampleWindow(clip.storagePath, clip.sampleRate, clip.durationSeconds, start, end, event.request.signal);
 		return json(window, { headers: { 'cache-control': 'private, max-age=300' } });
