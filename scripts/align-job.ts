@@ -41,7 +41,8 @@ try {
 			overlapSeconds: p.estimate.overlapSeconds,
 			coarse: p.estimate.coarse,
 			windows: p.estimate.windows,
-			notes: p.estimate.notes
+			notes: p.estimate.notes,
+			correlation: p.estimate.correlation ?? null
 		})),
 		links: report.solution.links
 	};

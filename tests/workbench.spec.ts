@@ -107,6 +107,51 @@ test('nudging by keyboard moves the stored offset by exactly one sample, one mil
 	await restore(page.request, id, before);
 });
 
+test('at the deepest zoom a lane draws single samples, and a one-sample nudge moves them by one sample', async ({ page }) => {
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	const mid = clipNamed(before, 'Rig mid');
+	await openWorkbench(page, id);
+	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
+	// The second lap, where every camera has sound; zooming keeps the playhead in place.
+	const ruler = (await page.getByTestId('ruler').boundingBox())!;
+	await page.mouse.click(ruler.x + ruler.width * 0.43, ruler.y + 10);
+	const trace = page.locator(`[data-testid="lane"][data-clip="${mid.id}"] [data-testid="sample-trace"]`);
+	await expect(trace).toHaveCount(0);
+	const samplesFetched = page.waitForResponse((r) => r.url().includes(`/api/clips/${mid.id}/samples?`) && r.status() === 200);
+	for (let i = 0; i < 20; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
+	const window = (await (await samplesFetched).json()) as { sampleRate: number; startSample: number; samples: number[] };
+	expect(window.sampleRate).toBe(48000);
+	expect(window.samples.length).toBeGreaterThan(10);
+	expect(window.samples.some((v) => v !== 0), 'the square is heard here').toBe(true);
+	await expect(trace).toHaveAttribute('data-first-sample-x', /\d/);
+	const pxPerSample = Number(await trace.getAttribute('data-px-per-sample'));
+	// At the deepest zoom (16 px a 48 kHz sample) each sample is a dot of its own.
+	expect(pxPerSample).toBeGreaterThan(10);
+	const xBefore = Number(await trace.getAttribute('data-first-sample-x'));
+	const firstSample = await trace.getAttribute('data-first-sample');
+
+	// The window endpoint refuses what it cannot serve, saying why.
+	const refusal = async (query: string) => {
+		const response = await page.request.get(`/api/clips/${mid.id}/samples?${query}`);
+		return [response.status(), ((await response.json()) as { error: { message: string } }).error.message];
+	};
+	expect(await refusal('start=2&end=1')).toEqual([400, 'end must be after start.']);
+	expect(await refusal('start=1&end=2')).toEqual([400, 'Ask for at most 32768 samples at a time (0.683 s at 48000 Hz); use the peaks for longer windows.']);
+	expect(await refusal('start=500&end=500.1')).toEqual([400, 'start is past the end of the clip (82.000 s).']);
+	expect(await refusal('end=1')).toEqual([400, 'Give start as seconds of clip time.']);
+
+	await page.keyboard.press(']');
+	await waitSaved(page);
+	expect(clipNamed(await stored(page.request, id), 'Rig mid').offsetSeconds - mid.offsetSeconds).toBeCloseTo(1 / 48000, 12);
+	await expect(trace).not.toHaveAttribute('data-first-sample-x', xBefore.toFixed(3));
+	expect(await trace.getAttribute('data-first-sample')).toBe(firstSample);
+	// The same sample is drawn one sample's width later (×(1 + drift) on the session timeline, under 1e-4 here).
+	expect(Number(await trace.getAttribute('data-first-sample-x')) - xBefore).toBeCloseTo(pxPerSample, 1);
+	await restore(page.request, id, before);
+});
+
 test('dragging the usable span handles stores the span shown', async ({ page }) => {
 	await signInAs(page, 'editor');
 	const id = await demoSessionId(page.request);
@@ -195,8 +240,15 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	await page.waitForTimeout(300);
 	await page.screenshot({ path: 'screens/workbench-whole-session-dark.png', fullPage: true });
 	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
-	await page.getByRole('button', { name: 'Show drift fit' }).click();
-	await expect(page.getByTestId('drift-plot').locator('canvas')).toBeVisible();
+	await page.getByRole('button', { name: 'Show correlation and drift fit' }).click();
+	await expect(page.getByRole('figure', { name: 'Drift fit' }).locator('canvas')).toBeVisible();
+	// The correlation kept by the engine: a curve around the chosen lag and three runner-up peaks, each weaker than it.
+	const correlation = page.getByTestId('correlation-plot');
+	await expect(correlation.locator('canvas')).toBeVisible();
+	const heights = await correlation.getByRole('table', { name: 'Runner-up peaks' }).locator('tbody tr td:last-child').allTextContents();
+	// Shown as a share of the chosen peak, in per cent.
+	expect(heights).toHaveLength(3);
+	for (const height of heights) expect(Number(height.split(' ')[0])).toBeLessThan(100);
 	// Put the playhead on the second lap (zoom keeps it in place), where all three cameras hear the square.
 	const ruler = (await page.getByTestId('ruler').boundingBox())!;
 	await page.mouse.click(ruler.x + ruler.width * 0.43, ruler.y + 10);
@@ -206,4 +258,12 @@ test('screenshots of the workbench with the demo session', async ({ page }) => {
 	for (let i = 0; i < 10; i++) await page.getByRole('button', { name: 'Zoom in' }).click();
 	await page.waitForTimeout(1200);
 	await page.screenshot({ path: 'screens/workbench-deep-zoom.png' });
+	// Out two steps from the deepest zoom: 4 px a sample, a few milliseconds of wave drawn sample by sample.
+	for (let i = 0; i < 2; i++) await page.getByRole('button', { name: 'Zoom out' }).click();
+	await expect(page.getByTestId('sample-trace').first()).toHaveAttribute('data-px-per-sample', /^4\.0/);
+	await expect(page.getByTestId('sample-trace').first()).toHaveAttribute('data-first-sample-x', /\d/);
+	await page.waitForTimeout(600);
+	await page.screenshot({ path: 'screens/workbench-single-samples.png' });
+	// Last: an element screenshot scrolls the page, and the ruler clicks above need it at the top.
+	await page.getByTestId('drift-plot').screenshot({ path: 'screens/workbench-correlation-and-drift-fit.png' });
 });

@@ -228,6 +228,7 @@ function snapshotClip(c: Clip): ClipPatch {
 		offsetSeconds: c.offsetSeconds,
 		driftPpm: c.driftPpm,
 		syncMethod: c.syncMethod,
+		matched: c.matched,
 		locked: c.locked,
 		trimStartSeconds: c.trimStartSeconds,
 		trimEndSeconds: c.trimEndSeconds
@@ -480,7 +481,7 @@ function stateAfter(scope: WorkspaceScope, sessionId: string, target: Revision, 
 		if (before.usableSpan) state.usableSpan = { ...before.usableSpan };
 		for (const c of before.clips ?? []) {
 			const entry = state.clips?.find((s) => s.clipId === c.clipId);
-			if (entry) Object.assign(entry, pick(c, ['offsetSeconds', 'driftPpm', 'syncMethod', 'locked', 'trimStartSeconds', 'trimEndSeconds']));
+			if (entry) Object.assign(entry, pick(c, ['offsetSeconds', 'driftPpm', 'syncMethod', 'matched', 'locked', 'trimStartSeconds', 'trimEndSeconds']));
 		}
 	}
 	return state;
@@ -503,7 +504,7 @@ function difference(current: AlignmentPatch, target: AlignmentPatch): { from: Al
 	for (const now of current.clips ?? []) {
 		const then = target.clips?.find((c) => c.clipId === now.clipId);
 		if (!then) continue;
-		const keys = (['offsetSeconds', 'driftPpm', 'syncMethod', 'locked', 'trimStartSeconds', 'trimEndSeconds'] as const).filter((k) => now[k] !== then[k]);
+		const keys = (['offsetSeconds', 'driftPpm', 'syncMethod', 'matched', 'locked', 'trimStartSeconds', 'trimEndSeconds'] as const).filter((k) => now[k] !== then[k]);
 		if (keys.length === 0) continue;
 		from.clips!.push({ clipId: now.clipId, ...pick(now, [...keys]) });
 		to.clips!.push({ clipId: now.clipId, ...pick(then, [...keys]) });
@@ -533,6 +534,89 @@ export function revertToRevision(scope: WorkspaceScope, sessionId: string, revis
 			activity: `reverted the timing to version ${target.sessionVersion}${affected.length ? ` (${affected.join(', ')})` : ''}`
 		};
 	});
+}
+
+// ─── The same changes from plain forms (no JavaScript) ───────────────────────
+
+/** A typed number: empty and non-numeric text are refused in words rather than read as 0 or NaN. */
+const typedNumber = (what: string) =>
+	z
+		.string(`Give ${what}.`)
+		.trim()
+		.min(1, `Give ${what}.`)
+		.refine((text) => Number.isFinite(Number(text)), `Give ${what} as a number, e.g. 2.5.`)
+		.transform(Number);
+/** A number that may be left empty (null: leave it as it is, or no trim). */
+const optionalNumber = (what: string) =>
+	z
+		.string()
+		.optional()
+		.transform((text, context) => {
+			const trimmed = text?.trim() ?? '';
+			if (trimmed === '') return null;
+			if (!Number.isFinite(Number(trimmed))) {
+				context.addIssue({ code: 'custom', message: `Give ${what} as a number, e.g. 2.5.` });
+				return z.NEVER;
+			}
+			return Number(trimmed);
+		});
+const formVersion = typedNumber('the session version your change is based on (reload the page)').pipe(version);
+const formReason = z.string().optional().transform((text) => text?.trim() || undefined);
+
+const PlacementForm = z.object({ version: formVersion, clipId, offsetSeconds: optionalNumber('the offset in seconds'), driftPpm: optionalNumber('the drift in ppm'), reason: formReason });
+const ClipForm = z.object({ version: formVersion, clipId, reason: formReason });
+const LockForm = ClipForm.extend({ locked: z.enum(['true', 'false'], 'Say locked: true or false.').transform((v) => v === 'true') });
+const SpanForm = z.object({ version: formVersion, startSeconds: typedNumber('the span start in seconds'), endSeconds: typedNumber('the span end in seconds'), reason: formReason });
+const TrimForm = z.object({
+	version: formVersion,
+	clipId,
+	trimStartSeconds: optionalNumber('the trim start in seconds'),
+	trimEndSeconds: optionalNumber('the trim end in seconds'),
+	reason: formReason
+});
+const RevertForm = z.object({ version: formVersion, revisionId: z.string('Name the revision to go back to.').min(1, 'Name the revision to go back to.'), reason: formReason });
+
+/**
+ * A lane's typed offset and drift: each that differs from what is stored becomes its own
+ * change (as in the live workbench), the second based on the version the first produced.
+ * Both are checked before either is written, so a bad drift never leaves a lone offset saved.
+ */
+export function applyPlacementForm(scope: WorkspaceScope, sessionId: string, userId: string | null, fields: Record<string, string>): EditOutcome {
+	const form = parseInput(PlacementForm, fields);
+	const clip = clipIn(clipsOfSession(scope, sessionId), form.clipId);
+	const edits: AlignmentEditInput[] = [];
+	if (form.offsetSeconds !== null && form.offsetSeconds !== clip.offsetSeconds) edits.push({ kind: 'offset', clipId: clip.id, offsetSeconds: form.offsetSeconds, reason: form.reason });
+	if (form.driftPpm !== null && form.driftPpm !== clip.driftPpm) edits.push({ kind: 'drift', clipId: clip.id, driftPpm: form.driftPpm, reason: form.reason });
+	if (edits.length === 0) throw new Refusal('no_change', `${clip.cameraLabel} already has that offset and drift.`, 400);
+	for (const edit of edits) parseInput(AlignmentEdit, edit);
+	let outcome: EditOutcome | null = null;
+	for (const edit of edits) outcome = applyAlignmentEdit(scope, sessionId, userId, { version: outcome?.session.version ?? form.version, edit });
+	return outcome!;
+}
+
+export function applyReferenceForm(scope: WorkspaceScope, sessionId: string, userId: string | null, fields: Record<string, string>): EditOutcome {
+	const { version: base, clipId: id, reason: why } = parseInput(ClipForm, fields);
+	return applyAlignmentEdit(scope, sessionId, userId, { version: base, edit: { kind: 'reference', clipId: id, reason: why } });
+}
+
+export function applyLockForm(scope: WorkspaceScope, sessionId: string, userId: string | null, fields: Record<string, string>): EditOutcome {
+	const { version: base, clipId: id, locked, reason: why } = parseInput(LockForm, fields);
+	return applyAlignmentEdit(scope, sessionId, userId, { version: base, edit: { kind: 'lock', clipId: id, locked, reason: why } });
+}
+
+export function applyUsableSpanForm(scope: WorkspaceScope, sessionId: string, userId: string | null, fields: Record<string, string>): EditOutcome {
+	const { version: base, startSeconds, endSeconds, reason: why } = parseInput(SpanForm, fields);
+	return applyAlignmentEdit(scope, sessionId, userId, { version: base, edit: { kind: 'usable_span', startSeconds, endSeconds, reason: why } });
+}
+
+export function applyTrimForm(scope: WorkspaceScope, sessionId: string, userId: string | null, fields: Record<string, string>): EditOutcome {
+	const { version: base, clipId: id, trimStartSeconds, trimEndSeconds, reason: why } = parseInput(TrimForm, fields);
+	return applyAlignmentEdit(scope, sessionId, userId, { version: base, edit: { kind: 'trim', clipId: id, trimStartSeconds, trimEndSeconds, reason: why } });
+}
+
+export function revertForm(scope: WorkspaceScope, sessionId: string, userId: string | null, fields: Record<string, string>): EditOutcome {
+	const { version: base, revisionId, reason: why } = parseInput(RevertForm, fields);
+	return revertToRevision(scope, sessionId, revisionId, userId, { version: base, reason: why });
 }
 
 /** A JSON route's answer to an edit: the new workbench, or the refusal (a conflict carries the changes that overtook it). */

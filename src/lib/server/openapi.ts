@@ -102,6 +102,16 @@ const OPERATIONS: Record<string, Partial<Record<Method, Operation>>> = {
 			}
 		}
 	},
+	'/api/clips/{id}/samples': {
+		get: {
+			summary: 'The clip\'s own mono samples for a short window of clip time (at most 32768 samples)',
+			permission: 'sessions:read',
+			query: {
+				start: { description: 'window start, seconds of clip time', type: 'number', required: true },
+				end: { description: 'window end, seconds of clip time', type: 'number', required: true }
+			}
+		}
+	},
 	'/api/clips/{id}/proxy': { get: { summary: 'Listening copy (mono AAC) with HTTP Range', permission: 'sessions:read', produces: 'audio/mp4' } },
 	'/api/clips/{id}/frames/{frame}': {
 		get: {

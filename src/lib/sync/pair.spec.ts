@@ -24,6 +24,13 @@ describe('estimatePair', () => {
 		expect(Math.abs(estimate.offsetSeconds - 37.25)).toBeLessThan(0.1e-3);
 		expect(Math.abs(estimate.driftPpm - 60)).toBeLessThan(1);
 		expect(estimate.driftMeasured).toBe(true);
+		// The correlation kept for people: centred on the chosen lag, which is the slice's highest point.
+		const view = estimate.correlation!;
+		expect(view.chosenLagSeconds).toBeCloseTo(37.25 + view.segmentCenterSeconds * 60e-6, 3);
+		expect(view.startLagSeconds).toBeCloseTo(view.chosenLagSeconds - 2, 1);
+		expect(Math.max(...view.values)).toBe(1);
+		expect(view.runnersUp).toHaveLength(3);
+		for (const r of view.runnersUp) expect(r.relativeHeight).toBeLessThan(1);
 	});
 
 	it('honours each track’s start time on its clip timeline', () => {

@@ -1,3 +1,4 @@
+import { correlationView, defaultCorrelationViewOptions, type CorrelationView } from './correlation-view';
 import { fitDrift, defaultDriftFitOptions, type DriftFitOptions } from './drift-fit';
 import { nextPowerOfTwo, realSpectrum } from './fft';
 import { gccPhat, gccPhatFromSpectra, type BandWeighting } from './gcc-phat';
@@ -88,6 +89,8 @@ export interface PairEstimate extends PairRelation {
 	windows: WindowMeasurement[];
 	coarse: CoarseMatch | null;
 	notes: string[];
+	/** The coarse correlation around the chosen lag and its runner-ups, for a person to look at. */
+	correlation?: CorrelationView | null;
 }
 
 export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
@@ -333,7 +336,17 @@ export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOp
 		const estimate = refine(a, b, candidate, options);
 		if (!best || estimate.confidence > best.confidence) best = estimate;
 	}
-	return best ?? unmatched('no consistent lag');
+	return withCorrelationView(a, b, best ?? unmatched('no consistent lag'), options);
+}
+
+/** Adds the correlation around the lag the estimate settled on (the coarse lag when it found no match). */
+function withCorrelationView(a: AnalysisTrack, b: AnalysisTrack, estimate: PairEstimate, options: PairOptions): PairEstimate {
+	const bMiddle = b.pcm.startSeconds + b.pcm.samples.length / b.pcm.sampleRate / 2;
+	const coarseLag = estimate.coarse?.lagSeconds ?? Number.NaN;
+	const lagAt = estimate.matched ? (t: number) => estimate.offsetSeconds + t * estimate.driftPpm * 1e-6 : () => coarseLag;
+	const center = estimate.matched ? estimate.referenceTimeSeconds : bMiddle;
+	const view = correlationView(a.envelope, b.envelope, lagAt, center, { ...defaultCorrelationViewOptions, segmentSeconds: options.coarseSegmentSeconds });
+	return { ...estimate, correlation: view };
 }
 
 /** Waveform refinement along the overlap around one coarse lag, then the robust drift fit. */

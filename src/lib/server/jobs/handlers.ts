@@ -3,6 +3,7 @@ import { writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { eq } from 'drizzle-orm';
 import { recordActivity } from '../activity';
+import type { AlignmentPatch } from '../alignment-edits';
 import { db } from '../db';
 import { captureSessions, clips, revisions, type Clip } from '../db/schema';
 import { newId } from '../ids';
@@ -178,7 +179,28 @@ async function alignJob(context: JobContext): Promise<void> {
 
 	db.transaction(() => {
 		const before = db.select().from(captureSessions).where(eq(captureSessions.id, sessionId)).get()!;
-		const fromState = candidates.map((c) => ({ clipId: c.id, offsetSeconds: c.offsetSeconds, driftPpm: c.driftPpm, matched: c.matched }));
+		const usableSpan = {
+			startSeconds: before.usableStartSeconds ?? result.commonSpan?.start ?? null,
+			endSeconds: before.usableEndSeconds ?? result.commonSpan?.end ?? null
+		};
+		// The revision holds everything the run set, reference and span included, so reverting to
+		// or past it restores the timing as a whole (see stateAfter in alignment-edits).
+		const fromState: AlignmentPatch = {
+			referenceClipId: before.referenceClipId,
+			usableSpan: { startSeconds: before.usableStartSeconds, endSeconds: before.usableEndSeconds },
+			clips: candidates.map((c) => ({ clipId: c.id, offsetSeconds: c.offsetSeconds, driftPpm: c.driftPpm, syncMethod: c.syncMethod, matched: c.matched }))
+		};
+		const toState: AlignmentPatch = {
+			referenceClipId: reference.id,
+			usableSpan,
+			// A locked lane keeps its placement: recorded as it stays.
+			clips: candidates.map((c, i) => {
+				const solved = result.clips[i];
+				return c.locked
+					? { clipId: c.id, offsetSeconds: c.offsetSeconds, driftPpm: c.driftPpm, syncMethod: c.syncMethod, matched: c.matched }
+					: { clipId: c.id, offsetSeconds: solved.offsetSeconds, driftPpm: solved.driftPpm, syncMethod: solved.matched ? 'audio' : null, matched: solved.matched };
+			})
+		};
 		candidates.forEach((clip, i) => {
 			if (clip.locked) return;
 			const solved = result.clips[i];
@@ -207,8 +229,8 @@ async function alignJob(context: JobContext): Promise<void> {
 				status: 'aligned',
 				version,
 				updatedAt: new Date(),
-				usableStartSeconds: before.usableStartSeconds ?? result.commonSpan?.start ?? null,
-				usableEndSeconds: before.usableEndSeconds ?? result.commonSpan?.end ?? null
+				usableStartSeconds: usableSpan.startSeconds,
+				usableEndSeconds: usableSpan.endSeconds
 			})
 			.where(eq(captureSessions.id, sessionId))
 			.run();
@@ -221,9 +243,7 @@ async function alignJob(context: JobContext): Promise<void> {
 				userId: context.job.requestedBy,
 				kind: 'alignment',
 				fromJson: JSON.stringify(fromState),
-				toJson: JSON.stringify(
-					candidates.map((c, i) => ({ clipId: c.id, offsetSeconds: result.clips[i].offsetSeconds, driftPpm: result.clips[i].driftPpm, matched: result.clips[i].matched }))
-				),
+				toJson: JSON.stringify(toState),
 				reason: `Aligned by sound (${matchedCount} of ${candidates.length} clips matched; pairs disagree by at most ${result.maxInconsistencyMs.toFixed(2)} ms)`
 			})
 			.run();

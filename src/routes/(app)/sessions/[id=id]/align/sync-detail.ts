@@ -1,7 +1,8 @@
 /*
  * The engine's evidence for a clip, as the align job stores it in syncDetailJson: per pair
- * the coarse peak and the windowed offsets the drift line was fitted to. Read defensively:
- * older results may lack fields.
+ * the coarse peak, the windowed offsets the drift line was fitted to and the coarse
+ * correlation around the chosen lag with its runner-ups. Read defensively: older results
+ * may lack fields (results from before the correlation was kept have none).
  */
 
 export interface SyncWindow {
@@ -10,6 +11,16 @@ export interface SyncWindow {
 	coherence: number;
 	peakToSidelobe: number;
 	inlier: boolean;
+}
+
+export interface SyncCorrelation {
+	segmentCenterSeconds: number;
+	chosenLagSeconds: number;
+	startLagSeconds: number;
+	stepSeconds: number;
+	/** Relative to the chosen peak (1). */
+	values: number[];
+	runnersUp: { lagSeconds: number; relativeHeight: number }[];
 }
 
 export interface SyncPair {
@@ -21,6 +32,7 @@ export interface SyncPair {
 	driftPpm: number | null;
 	coarse: { lagSeconds: number; peakToSidelobe: number; supportingSegments?: number; segments?: number } | null;
 	windows: SyncWindow[];
+	correlation: SyncCorrelation | null;
 }
 
 const isRecord = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null;
@@ -32,6 +44,26 @@ function readWindow(v: unknown): SyncWindow | null {
 	const lagSeconds = num(v.lagSeconds);
 	if (timeSeconds === null || lagSeconds === null) return null;
 	return { timeSeconds, lagSeconds, coherence: num(v.coherence) ?? 0, peakToSidelobe: num(v.peakToSidelobe) ?? 0, inlier: v.inlier !== false };
+}
+
+function readCorrelation(v: unknown): SyncCorrelation | null {
+	if (!isRecord(v) || !Array.isArray(v.values)) return null;
+	const chosenLagSeconds = num(v.chosenLagSeconds);
+	const startLagSeconds = num(v.startLagSeconds);
+	const stepSeconds = num(v.stepSeconds);
+	if (chosenLagSeconds === null || startLagSeconds === null || stepSeconds === null || stepSeconds <= 0) return null;
+	return {
+		segmentCenterSeconds: num(v.segmentCenterSeconds) ?? 0,
+		chosenLagSeconds,
+		startLagSeconds,
+		stepSeconds,
+		values: v.values.map((x) => num(x) ?? 0),
+		runnersUp: (Array.isArray(v.runnersUp) ? v.runnersUp : []).flatMap((r) => {
+			const lagSeconds = isRecord(r) ? num(r.lagSeconds) : null;
+			const relativeHeight = isRecord(r) ? num(r.relativeHeight) : null;
+			return lagSeconds === null || relativeHeight === null ? [] : [{ lagSeconds, relativeHeight }];
+		})
+	};
 }
 
 export function pairsOf(detail: Record<string, unknown> | null): SyncPair[] {
@@ -55,7 +87,8 @@ export function pairsOf(detail: Record<string, unknown> | null): SyncPair[] {
 							segments: num(coarse.segments) ?? undefined
 						}
 					: null,
-				windows: (Array.isArray(p.windows) ? p.windows : []).map(readWindow).filter((w): w is SyncWindow => w !== null)
+				windows: (Array.isArray(p.windows) ? p.windows : []).map(readWindow).filter((w): w is SyncWindow => w !== null),
+				correlation: readCorrelation(p.correlation)
 			}
 		];
 	});
