@@ -41,7 +41,7 @@ export default defineConfig({
 			ORIGIN: `http://127.0.0.1:${PORT}`,
 			DATABASE_URL: 'data/e2e/lockstep.db',
 			MEDIA_ROOT: 'data/e2e/media',
-			LOCAL_SMTP_PORT: '2626',
+			LOCAL_SMTP_PORT: process.env.LOCAL_SMTP_PORT ?? '2626',
 			INSECURE_COOKIES: '1',
 			// Upload chunks stream through adapter-node, whose body limit is 512 KB unless raised;
 			// small chunks here make every fixture upload take several resumable PATCHes.

@@ -2,7 +2,7 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { expect, test, type APIRequestContext, type Page } from '@playwright/test';
 import { readFrameCode, type Truth } from '../scripts/fixtures/truth';
-import { apiAs, PEOPLE, signInAs, type DemoRole } from './helpers';
+import { apiAs, e2eDatabase, PEOPLE, signInAs, type DemoRole } from './helpers';
 
 /*
  * The review of the demo session ("Market Square fountain, lap 2", aligned): an editor sends it
@@ -97,6 +97,14 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 			await instant.getByLabel('Off', { exact: true }).check();
 			await instant.getByLabel('Off by (frames)').fill('1');
 		}
+		if (i === 2) {
+			// The same event marked in two cameras' strips travels with this check.
+			for (const label of ['Rig high', 'Rig mid']) {
+				await instant.getByRole('button', { name: new RegExp(`^Show ±2 frames of ${label} at`) }).click();
+				await instant.getByRole('group', { name: new RegExp(`^Frames around \\d+ of ${label}$`) }).getByRole('button', { name: /^Mark/ }).nth(2).click();
+			}
+			await expect(instant.getByLabel('Keep the event marked in 2 cameras with this check')).toBeChecked();
+		}
 		await instant.getByLabel('Note').fill(`check ${i + 1}`);
 		await instant.getByRole('button', { name: /^Record check/ }).click();
 		await expect(reviewer.getByRole('status').filter({ hasText: /Spot check at .* recorded/ })).toBeVisible();
@@ -104,6 +112,7 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 	const checks = reviewer.getByRole('region', { name: 'Spot checks' }).getByRole('row');
 	await expect(checks.filter({ hasText: /check [123]/ })).toHaveCount(3);
 	await expect(checks.filter({ hasText: 'Off by about 1 frame' })).toHaveCount(1);
+	await expect(checks.filter({ hasText: 'check 3' }).getByText(/^Marked event: (agrees|disagrees)/)).toBeVisible();
 	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant.');
 	await reviewer.getByRole('button', { name: 'Send back with notes' }).click();
 	await expectStatus(reviewer, 'Aligned');
@@ -247,4 +256,49 @@ test('the slate clap marked in each camera agrees with the sound within a frame'
 	const { estimate } = (await response.json()) as { estimate: { cameras: { disagreementFrames: number }[] } };
 	for (const camera of estimate.cameras) expect(Math.abs(camera.disagreementFrames)).toBeLessThan(1);
 	await api.dispose();
+});
+
+test('a spot check keeps the result of the event marked with it, in the database and in every answer', async ({ baseURL }) => {
+	const editor = await apiAs(baseURL, 'editor');
+	const reviewer = await apiAs(baseURL, 'reviewer');
+	let session = await demoSession(editor);
+	expect(session.status).toBe('aligned');
+	const sent = await editor.post(`/api/sessions/${session.id}/review/send`, { data: { version: session.version, note: 'marked-event test' } });
+	expect(sent.status()).toBe(200);
+	session = await demoSession(editor);
+	const files: Record<string, string> = { 'Rig high': 'high.mp4', 'Rig mid': 'mid.mp4', 'Rig low (housing)': 'low.mp4' };
+	const marks = session.clips.filter((c) => files[c.cameraLabel]).map((c) => ({
+		clipId: c.id,
+		frame: truth.clips.find((t) => t.file === files[c.cameraLabel])!.marks.find((m) => m.label === 'slate clap')!.flashFrame
+	}));
+	const check = { version: session.version, instantSeconds: 12.5, verdict: 'in_sync', note: 'slate clap' };
+
+	// One camera is not an event check: refused with what to do, and nothing stored.
+	const single = await reviewer.post(`/api/sessions/${session.id}/review/checks`, { data: { ...check, marks: marks.slice(0, 1) } });
+	expect(single.status()).toBe(400);
+	expect((await single.json()).error.message).toContain('at least two cameras');
+	const badFrame = await reviewer.post(`/api/sessions/${session.id}/review/checks`, { data: { ...check, marks: [marks[0], { ...marks[1], frame: 9_999_999 }] } });
+	expect(badFrame.status()).toBe(400);
+	expect((await badFrame.json()).error.message).toContain('is not a frame of that clip');
+
+	const response = await reviewer.post(`/api/sessions/${session.id}/review/checks`, { data: { ...check, marks } });
+	expect(response.status()).toBe(201);
+	const { spotCheck } = (await response.json()) as { spotCheck: { id: string; markedEvent: { consistent: boolean; cameras: { clipId: string; label: string; frame: number; disagreementFrames: number }[] } } };
+	expect(spotCheck.markedEvent.cameras.map((c) => c.label).sort()).toEqual(Object.keys(files).sort());
+	// The fixture's truth puts the clap in these frames, so the picture agrees with the sound within a frame.
+	for (const camera of spotCheck.markedEvent.cameras) expect(Math.abs(camera.disagreementFrames)).toBeLessThan(1);
+	expect(spotCheck.markedEvent.consistent).toBe(true);
+
+	const review = (await (await editor.get(`/api/sessions/${session.id}/review`)).json()) as { spotChecks: { id: string; markedEvent: unknown }[] };
+	expect(review.spotChecks.find((c) => c.id === spotCheck.id)!.markedEvent).toEqual(spotCheck.markedEvent);
+	const db = e2eDatabase();
+	const stored = db.prepare('select marked_event_json from spot_checks where id = ?').get(spotCheck.id) as { marked_event_json: string };
+	db.close();
+	expect(JSON.parse(stored.marked_event_json).cameras.map((c: { frame: number }) => c.frame).sort()).toEqual(marks.map((m) => m.frame).sort());
+
+	// Leave the demo session aligned for the other files.
+	const back = await reviewer.post(`/api/sessions/${session.id}/review/decision`, { data: { version: session.version, decision: 'send_back', note: 'reset by the marked-event test' } });
+	expect(back.status()).toBe(200);
+	await editor.dispose();
+	await reviewer.dispose();
 });

@@ -24,6 +24,28 @@ import type { WorkspaceScope } from './scope';
 const version = z.number('Send the session version you looked at (version).').int().positive();
 const note = (max: number) => z.string().trim().max(max, `Keep the note under ${max} characters.`).default('');
 
+/** One camera's marked frame: `clipId:frame` as in a query or form, or `{ clipId, frame }` in JSON. */
+const Mark = z.union(
+	[
+		z
+			.string()
+			.regex(/^[A-Za-z0-9_-]+:\d+$/, 'Give each mark as clipId:frame.')
+			.transform((s) => {
+				const [clipId, frame] = s.split(':');
+				return { clipId, frame: Number(frame) };
+			}),
+		z.object({
+			clipId: z.string().regex(/^[A-Za-z0-9_-]+$/, 'Give each mark\'s clipId as the clip\'s id.'),
+			frame: z.number('Give each mark\'s frame as a number.').int('Give each mark\'s frame as a whole frame index.').min(0, 'Frame indices start at 0.')
+		})
+	],
+	'Give each mark as clipId:frame or { clipId, frame }.'
+);
+const Marks = z
+	.array(Mark, 'Give the marks as a list, one per camera.')
+	.min(2, 'Mark the event in at least two cameras (mark=clipId:frame, twice or more).')
+	.max(16, 'Mark at most 16 cameras.');
+
 export const SendForReview = z.object({ version, note: note(2000) });
 export const SpotCheckInput = z
 	.object({
@@ -31,7 +53,9 @@ export const SpotCheckInput = z
 		instantSeconds: z.number('Give the instant in session seconds (instantSeconds).').finite(),
 		verdict: z.enum(['in_sync', 'off', 'cannot_tell'], 'Give a verdict: in_sync, off or cannot_tell.'),
 		offByFrames: z.number('Give "off by" as a number of frames.').min(-1000).max(1000).nullable().default(null),
-		note: note(2000)
+		note: note(2000),
+		/** The same visible event marked in two or more cameras; its result is kept with the check. */
+		marks: Marks.nullable().default(null)
 	})
 	.refine((c) => c.verdict !== 'off' || (c.offByFrames !== null && c.offByFrames !== 0), {
 		message: 'Say by about how many frames it is off (offByFrames, not 0).'
@@ -42,18 +66,54 @@ export const ReviewDecisionInput = z
 
 export type SpotCheckFields = z.input<typeof SpotCheckInput>;
 
+/** What a spot check keeps of its marked-event check: the estimate as it stood for the checked revision. */
+export const MarkedEventResult = z.object({
+	anchorClipId: z.string(),
+	eventSessionSeconds: z.number(),
+	worstDisagreementMs: z.number(),
+	consistent: z.boolean(),
+	cameras: z.array(
+		z.object({
+			clipId: z.string(),
+			label: z.string(),
+			frame: z.number().int(),
+			impliedOffsetSeconds: z.number(),
+			audioOffsetSeconds: z.number(),
+			disagreementMs: z.number(),
+			disagreementFrames: z.number(),
+			resolutionMs: z.number()
+		})
+	)
+});
+export type MarkedEventResult = z.infer<typeof MarkedEventResult>;
+
+/** A stored result that no longer reads as one (hand-edited, or from an older shape) shows as none rather than breaking the history. */
+function markedEventFromJson(json: string | null): MarkedEventResult | null {
+	if (json === null) return null;
+	try {
+		const parsed = MarkedEventResult.safeParse(JSON.parse(json));
+		return parsed.success ? parsed.data : null;
+	} catch {
+		return null;
+	}
+}
+
 // ─── Reading ────────────────────────────────────────────────────────────────
 
-export interface SpotCheckView {
-	id: string;
-	sessionVersion: number;
-	instantSeconds: number;
-	verdict: 'in_sync' | 'off' | 'cannot_tell';
-	offByFrames: number | null;
-	note: string;
-	who: string;
-	createdAt: number;
-}
+/** A spot check as the API answers it (and the OpenAPI document describes it). */
+export const SpotCheckRecord = z.object({
+	id: z.string(),
+	sessionVersion: z.number().int(),
+	instantSeconds: z.number(),
+	verdict: z.enum(['in_sync', 'off', 'cannot_tell']),
+	offByFrames: z.number().nullable(),
+	note: z.string(),
+	/** The visible event the reviewer marked with this check, or null. */
+	markedEvent: MarkedEventResult.nullable(),
+	who: z.string(),
+	createdAt: z.number().describe('milliseconds since 1970')
+});
+export type SpotCheckView = z.infer<typeof SpotCheckRecord>;
 
 export interface DecisionView {
 	id: string;
@@ -79,6 +139,7 @@ export function spotChecksOf(scope: WorkspaceScope, sessionId: string): SpotChec
 			verdict: check.verdict,
 			offByFrames: check.offByFrames,
 			note: check.note,
+			markedEvent: markedEventFromJson(check.markedEventJson),
 			who: who ?? 'an API token',
 			createdAt: check.createdAt.getTime()
 		}));
@@ -187,22 +248,10 @@ export async function reviewInstants(scope: WorkspaceScope, sessionId: string, p
 
 // ─── The marked-event check ─────────────────────────────────────────────────
 
-export const MarkQuery = z
-	.array(
-		z
-			.string()
-			.regex(/^[A-Za-z0-9_-]+:\d+$/, 'Give each mark as clipId:frame.')
-			.transform((s) => {
-				const [clipId, frame] = s.split(':');
-				return { clipId, frame: Number(frame) };
-			}),
-		'Give each mark as clipId:frame.'
-	)
-	.min(2, 'Mark the event in at least two cameras (mark=clipId:frame, twice or more).')
-	.max(16);
+export const MarkQuery = Marks;
 
-/** The offsets implied by one visible event marked in several cameras, against the audio result. */
-export async function markedEventOf(scope: WorkspaceScope, sessionId: string, marks: { clipId: string; frame: number }[]): Promise<MarkedEventEstimate> {
+/** The offsets implied by one visible event marked in several cameras, against the audio result; each camera named. */
+export async function markedEventOf(scope: WorkspaceScope, sessionId: string, marks: { clipId: string; frame: number }[]): Promise<MarkedEventResult> {
 	const result = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: 1 }, cameras: null, toleranceMs: null });
 	const inputs = marks.map((mark) => {
 		const input = result.inputs.find((i) => i.id === mark.clipId);
@@ -210,7 +259,8 @@ export async function markedEventOf(scope: WorkspaceScope, sessionId: string, ma
 		return { clipId: input.id, clip: { placement: input.placement, frames: input.frames }, frameRate: input.frameRate, frame: mark.frame };
 	});
 	try {
-		return markedEventEstimate(inputs, result.session.referenceClipId);
+		const estimate: MarkedEventEstimate = markedEventEstimate(inputs, result.session.referenceClipId);
+		return { ...estimate, cameras: estimate.cameras.map((c) => ({ ...c, label: result.inputs.find((i) => i.id === c.clipId)!.label })) };
 	} catch (e) {
 		if (e instanceof MarkedEventError) throw new Refusal(e.code, e.message, 400);
 		throw e;
@@ -303,9 +353,11 @@ export async function sendForReview(scope: WorkspaceScope, sessionId: string, ac
 	return reviewOf(scope, sessionId);
 }
 
-/** Reviewer: one spot check of an instant, while the session is in review. */
-export function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown): SpotCheckView {
+/** Reviewer: one spot check of an instant, while the session is in review, with the marked event if one was marked. */
+export async function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown): Promise<SpotCheckView> {
 	const check = parseInput(SpotCheckInput, input);
+	// Worked out against the timing as it is now; the version check below makes sure that is the revision the reviewer saw.
+	const markedEvent = check.marks ? await markedEventOf(scope, sessionId, check.marks) : null;
 	const id = newId();
 	db.transaction(() => {
 		const session = scope.session(sessionId);
@@ -321,13 +373,20 @@ export function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor:
 				reviewerId: actor.userId,
 				verdict: check.verdict,
 				offByFrames: check.verdict === 'off' ? check.offByFrames : null,
-				note: check.note
+				note: check.note,
+				markedEventJson: markedEvent ? JSON.stringify(markedEvent) : null
 			})
 			.run();
 		const verdict = check.verdict === 'in_sync' ? 'in sync' : check.verdict === 'off' ? `off by about ${check.offByFrames} frame${Math.abs(check.offByFrames ?? 0) === 1 ? '' : 's'}` : 'cannot tell';
-		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'spot_check', message: `spot-checked ${check.instantSeconds.toFixed(3)} s: ${verdict}${check.note ? ` (“${check.note}”)` : ''}` });
+		const event = markedEvent ? `; marked event ${markedEventWords(markedEvent)}` : '';
+		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'spot_check', message: `spot-checked ${check.instantSeconds.toFixed(3)} s: ${verdict}${event}${check.note ? ` (“${check.note}”)` : ''}` });
 	});
 	return spotChecksOf(scope, sessionId).find((c) => c.id === id)!;
+}
+
+/** The marked event's verdict in words, for activity entries and mail. */
+export function markedEventWords(result: MarkedEventResult): string {
+	return `${result.consistent ? 'agrees with' : 'disagrees with'} the sound (worst ${result.worstDisagreementMs.toFixed(1)} ms)`;
 }
 
 /** Reviewer: approve (in review → approved) or send back with notes (in review → aligned). */
