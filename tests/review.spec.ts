@@ -302,3 +302,56 @@ test('a spot check keeps the result of the event marked with it, in the database
 	await editor.dispose();
 	await reviewer.dispose();
 });
+
+test('instants are picked by clicking the session timeline or from the keyboard, and shown as markers', async ({ page, baseURL }) => {
+	const api = await apiAs(baseURL, 'reviewer');
+	const session = await demoSession(api);
+	const { instants } = (await (await api.get(`/api/sessions/${session.id}/review?count=2`)).json()) as {
+		instants: { usableSpan: { startSeconds: number; endSeconds: number }; extent: { startSeconds: number; endSeconds: number } };
+	};
+	await api.dispose();
+	const { usableSpan, extent } = instants;
+	await signInAs(page, 'reviewer');
+	await page.goto(`/sessions/${session.id}/review?count=2`);
+	const cards = page.getByRole('region', { name: /^Instant / });
+	await expect(cards).toHaveCount(2);
+	const timeline = page.getByRole('slider', { name: 'Session timeline' });
+	// Every camera's lane is painted from the server's peaks.
+	await expect(page.locator('[data-lane][data-drawn="yes"]')).toHaveCount(session.clips.length);
+
+	// A click three quarters of the way along adds an instant there; the spread stays.
+	const box = (await timeline.boundingBox())!;
+	const inner = box.width - 2; // inside its 1 px border
+	const clickedSeconds = extent.startSeconds + 0.75 * (extent.endSeconds - extent.startSeconds);
+	await timeline.click({ position: { x: 1 + 0.75 * inner, y: box.height / 2 } });
+	await expect(page).toHaveURL(/count=2&at=/);
+	await expect(cards).toHaveCount(3);
+	const picked = cards.filter({ hasText: 'picked' });
+	await expect(picked).toHaveCount(1);
+	const shown = Number((await picked.getByRole('heading').textContent())!.match(/([\d.]+) s/)![1]);
+	// One pixel of the timeline is the most a click can be off by.
+	expect(Math.abs(shown - clickedSeconds)).toBeLessThanOrEqual((extent.endSeconds - extent.startSeconds) / inner + 0.001);
+	await expect(page.locator('[data-marker="picked"]')).toHaveCount(1);
+	await expect(page.locator('[data-marker="spread"]')).toHaveCount(2);
+
+	// From the keyboard: Home goes to the usable span's start, → moves a second, Enter adds.
+	await timeline.focus();
+	await page.keyboard.press('Home');
+	await page.keyboard.press('ArrowRight');
+	await page.keyboard.press('ArrowRight');
+	await expect(timeline).toHaveAttribute('aria-valuenow', String(Number((usableSpan.startSeconds + 2).toFixed(3))));
+	await page.keyboard.press('Enter');
+	const keyed = (usableSpan.startSeconds + 2).toFixed(3);
+	await expect(page.getByRole('heading', { name: `Instant ${keyed} s picked` })).toBeVisible();
+	await expect(page.locator('[data-marker="picked"]')).toHaveCount(2);
+	await expect(timeline).toBeFocused();
+
+	// A picked instant is removed from its chip.
+	await page.getByRole('link', { name: `Remove the instant at ${keyed} s` }).click();
+	await expect(page.locator('[data-marker="picked"]')).toHaveCount(1);
+	await expect(cards).toHaveCount(3);
+	// Too many picks are refused in words.
+	const many = Array.from({ length: 25 }, (_, i) => `at=${usableSpan.startSeconds + i}`).join('&');
+	await page.goto(`/sessions/${session.id}/review?count=2&${many}`);
+	await expect(page.getByRole('alert')).toHaveText('Pick at most 24 instants at a time; remove some first.');
+});

@@ -4,7 +4,8 @@ import { buildTimingTable, type TableRow, type TimingTable } from '$lib/sync/tim
 import { MarkedEventError, markedEventEstimate, type MarkedEventEstimate } from '$lib/sync/marked-event';
 import { activityOfSession, recordActivity } from './activity';
 import { db } from './db';
-import { captureSessions, memberships, revisions, reviewDecisions, spotChecks, users, type CaptureSession } from './db/schema';
+import { clipsOfSession } from './capture-sessions';
+import { captureSessions, memberships, revisions, reviewDecisions, spotChecks, users, type CaptureSession, type Clip } from './db/schema';
 import { timingTableOf, type TimingTableResult } from './exports';
 import { newId } from './ids';
 import { sendMail } from './mail';
@@ -188,18 +189,30 @@ export type ReviewState = ReturnType<typeof reviewOf>;
 
 // ─── Instants to check ──────────────────────────────────────────────────────
 
-export type InstantPick = { kind: 'count'; count: number } | { kind: 'at'; seconds: number };
+/** N instants spread across the usable span (0: none), and instants picked one by one, session seconds. */
+export interface InstantPick {
+	count: number;
+	at: number[];
+}
 
-export const InstantQuery = z.union([
-	z.object({ count: z.coerce.number('count must be a number.').int('count must be a whole number.').min(1, 'Ask for at least one instant.').max(24, 'Ask for at most 24 instants at a time.') }),
-	z.object({ at: z.coerce.number('at must be a session time in seconds.').finite() })
-]);
+const MAX_PICKED = 24;
 
+export const InstantQuery = z.object({
+	count: z.coerce.number('count must be a number.').int('count must be a whole number.').min(1, 'Ask for at least one instant.').max(24, 'Ask for at most 24 instants at a time.').optional(),
+	at: z
+		.array(z.coerce.number('at must be a session time in seconds.').finite('at must be a session time in seconds.'))
+		.max(MAX_PICKED, `Pick at most ${MAX_PICKED} instants at a time; remove some first.`)
+});
+
+/** `?count=N` and `?at=<seconds>` (any number of times, each an instant picked on the timeline); null when neither is asked. */
 export function instantPickOf(params: URLSearchParams): InstantPick | null {
 	if (!params.has('count') && !params.has('at')) return null;
-	const raw = params.has('at') && params.get('at') !== '' ? { at: params.get('at') } : { count: params.get('count') };
-	const parsed = parseInput(InstantQuery, raw);
-	return 'at' in parsed ? { kind: 'at', seconds: parsed.at } : { kind: 'count', count: parsed.count };
+	const at = params.getAll('at').filter((t) => t.trim() !== '');
+	const parsed = parseInput(InstantQuery, { count: params.get('count')?.trim() || undefined, at });
+	if (parsed.count === undefined && parsed.at.length === 0) throw new Refusal('invalid_input', 'Ask for a number of instants (count) or pick one (at).', 400);
+	// An instant picked twice (a double click) is checked once; a millisecond tells instants apart on any camera.
+	const picked = [...new Set(parsed.at.map((t) => Math.round(t * 1000) / 1000))].sort((a, b) => a - b);
+	return { count: parsed.count ?? 0, at: picked };
 }
 
 export interface ReviewCamera {
@@ -211,39 +224,64 @@ export interface ReviewCamera {
 	frameCount: number;
 	offsetSeconds: number;
 	driftPpm: number;
+	/** Media length in the clip's own time, for drawing its lane. */
+	durationSeconds: number;
+	/** Whether the server has drawn its waveform peaks yet. */
+	hasPeaks: boolean;
 }
+
+/** A row of the timing table at an instant to check; `picked` when a person chose it, rather than the spread. */
+export type ReviewRow = TableRow & { picked: boolean };
 
 export interface ReviewInstants {
 	usableSpan: { startSeconds: number; endSeconds: number };
+	/** From the first camera's first sample to the last camera's last, session seconds. */
+	extent: { startSeconds: number; endSeconds: number };
 	toleranceMs: number;
 	cameras: ReviewCamera[];
-	rows: TableRow[];
+	rows: ReviewRow[];
 }
 
-function camerasOf(table: TimingTable): ReviewCamera[] {
-	return table.clips.map((c) => ({ id: c.id, label: c.label, position: c.position, isReference: c.isReference, fps: c.frameRate.fps, frameCount: c.frameCount, offsetSeconds: c.offsetSeconds, driftPpm: c.driftPpm }));
+function camerasOf(table: TimingTable, clipRows: Clip[]): ReviewCamera[] {
+	return table.clips.map((c) => {
+		const row = clipRows.find((r) => r.id === c.id);
+		return {
+			id: c.id,
+			label: c.label,
+			position: c.position,
+			isReference: c.isReference,
+			fps: c.frameRate.fps,
+			frameCount: c.frameCount,
+			offsetSeconds: c.offsetSeconds,
+			driftPpm: c.driftPpm,
+			durationSeconds: row?.durationSeconds ?? c.frameCount / c.frameRate.fps,
+			hasPeaks: !!row?.peaksPath
+		};
+	});
 }
 
 /**
  * Each camera's nearest frame (timecode and residual) at N instants spread across the usable
- * span, or at one typed session time: the timing table's own arithmetic, so the review sees
- * exactly what the export will write.
+ * span and at the instants picked one by one, in time order: the timing table's own
+ * arithmetic, so the review sees exactly what the export will write.
  */
 export async function reviewInstants(scope: WorkspaceScope, sessionId: string, pick: InstantPick): Promise<ReviewInstants> {
 	const result: TimingTableResult = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: 1 }, cameras: null, toleranceMs: null });
 	const { startSeconds, endSeconds } = result.table.usableSpan;
-	// N instants at the middles of N equal parts of the span, away from its edges where a camera may just be starting;
-	// one typed instant as the single middle of a span a microsecond wide around it.
-	const part = pick.kind === 'count' ? (endSeconds - startSeconds) / pick.count : 0;
-	const span = pick.kind === 'count' ? { startSeconds: startSeconds + part / 2, endSeconds: endSeconds - part / 2 + (pick.count === 1 ? 1e-9 : 0) } : { startSeconds: pick.seconds - 5e-7, endSeconds: pick.seconds + 5e-7 };
-	const table = buildTimingTable({
-		session: result.table.session,
-		usableSpan: span,
-		clips: result.inputs,
-		instants: { kind: 'count', count: pick.kind === 'count' ? pick.count : 1 }
-	});
-	const rows = pick.kind === 'at' ? table.rows.map((row) => ({ ...row, sessionSeconds: pick.seconds })) : table.rows;
-	return { usableSpan: result.table.usableSpan, toleranceMs: result.table.toleranceMs, cameras: camerasOf(result.table), rows };
+	const rowsOver = (span: { startSeconds: number; endSeconds: number }, count: number) =>
+		buildTimingTable({ session: result.table.session, usableSpan: span, clips: result.inputs, instants: { kind: 'count', count } }).rows;
+	// N instants at the middles of N equal parts of the span, away from its edges where a camera may just be starting.
+	const part = (endSeconds - startSeconds) / Math.max(1, pick.count);
+	const spread = pick.count > 0 ? rowsOver({ startSeconds: startSeconds + part / 2, endSeconds: endSeconds - part / 2 + (pick.count === 1 ? 1e-9 : 0) }, pick.count) : [];
+	// A picked instant is the single middle of a span a microsecond wide around it.
+	const picked = pick.at.map((seconds, i) => ({ ...rowsOver({ startSeconds: seconds - 5e-7, endSeconds: seconds + 5e-7 }, 1)[0], index: pick.count + i, sessionSeconds: seconds }));
+	const rows: ReviewRow[] = [...spread.map((row) => ({ ...row, picked: false })), ...picked.map((row) => ({ ...row, picked: true }))].sort((a, b) => a.sessionSeconds - b.sessionSeconds);
+	const cameras = camerasOf(result.table, clipsOfSession(scope, sessionId));
+	const extent = {
+		startSeconds: Math.min(...cameras.map((c) => c.offsetSeconds)),
+		endSeconds: Math.max(...cameras.map((c) => c.offsetSeconds + c.durationSeconds * (1 + c.driftPpm * 1e-6)))
+	};
+	return { usableSpan: result.table.usableSpan, extent, toleranceMs: result.table.toleranceMs, cameras, rows };
 }
 
 // ─── The marked-event check ─────────────────────────────────────────────────

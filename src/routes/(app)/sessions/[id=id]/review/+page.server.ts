@@ -5,7 +5,7 @@ import { formFields, formRefusal, Refusal } from '$lib/server/refusal';
 import { actorOf, decideReview, instantPickOf, recordSpotCheck, reviewInstants, reviewOf, sendForReview, type InstantPick, type ReviewInstants } from '$lib/server/review';
 import type { Actions, PageServerLoad } from './$types';
 
-const DEFAULT_PICK: InstantPick = { kind: 'count', count: 3 };
+const DEFAULT_PICK: InstantPick = { count: 3, at: [] };
 
 export const load = (async (event) => {
 	const { scope, role } = requirePermission(event, 'sessions:read');
