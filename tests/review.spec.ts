@@ -113,14 +113,27 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 	await expect(checks.filter({ hasText: /check [123]/ })).toHaveCount(3);
 	await expect(checks.filter({ hasText: 'Off by about 1 frame' })).toHaveCount(1);
 	await expect(checks.filter({ hasText: 'check 3' }).getByText(/^Marked event: (agrees|disagrees)/)).toBeVisible();
-	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant.');
+	// Written with characters HTML would read as markup: the mail's HTML version must show them as typed.
+	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant <b>check</b> & "see" the strip.');
 	await reviewer.getByRole('button', { name: 'Send back with notes' }).click();
 	await expectStatus(reviewer, 'Aligned');
 	mail = await outboxSince(admin, seen);
 	const sentBack = mail.find((m) => m.toAddress.includes(PEOPLE.editor.email) && m.subject === `Sent back: ${DEMO}`);
 	expect(sentBack, 'the editor is told the session was sent back').toBeTruthy();
-	const { message } = (await (await admin.get(`/api/admin/outbox/${sentBack!.id}`)).json()) as { message: { textBody: string } };
-	expect(message.textBody).toContain('The mid camera looks a frame late');
+	const { message } = (await (await admin.get(`/api/admin/outbox/${sentBack!.id}`)).json()) as { message: { textBody: string; htmlBody: string | null } };
+	expect(message.textBody).toContain('What to look at: The mid camera looks a frame late at the second instant <b>check</b> & "see" the strip.');
+	// The HTML part arrived through the local SMTP server beside the text, with the note escaped and a link to the session.
+	expect(message.htmlBody).toContain('The mid camera looks a frame late at the second instant &lt;b&gt;check&lt;/b&gt; &amp; &quot;see&quot; the strip.');
+	expect(message.htmlBody).not.toContain('<b>check</b>');
+	expect(message.htmlBody).toContain(`<a href="${baseURL}/sessions/${id}/review">`);
+	// The outbox shows it in an empty sandbox, where the note reads as typed.
+	const adminPage = await (await browser.newContext()).newPage();
+	await signInAs(adminPage, 'admin');
+	await adminPage.goto(`/admin/outbox/${sentBack!.id}`);
+	const html = adminPage.locator(`iframe[title="HTML version of “Sent back: ${DEMO}”"]`);
+	await expect(html).toHaveAttribute('sandbox', '');
+	await expect(adminPage.frameLocator(`iframe[title="HTML version of “Sent back: ${DEMO}”"]`).getByText('<b>check</b> & "see" the strip.', { exact: false })).toBeVisible();
+	await adminPage.context().close();
 	mail.forEach((m) => seen.add(m.id));
 
 	// The editor nudges and sends again (by API, as a script would).
@@ -156,6 +169,7 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 	const activity = page.getByRole('region', { name: 'Activity' });
 	await expect(activity.getByText(/approved revision/).first()).toBeVisible();
 	await expect(activity.getByText(/sent revision \d+ back to the editors/).first()).toBeVisible();
+	await expect(activity.getByText(/marked event (agrees|disagrees) with the sound/).first()).toBeVisible();
 
 	// Leave the demo session aligned for the other files.
 	await nudgeThereAndBack(editorApi, id);

@@ -122,7 +122,7 @@ const OPERATIONS: Record<string, Partial<Record<Method, Operation>>> = {
 			permission: 'sessions:read',
 			query: {
 				count: { description: 'instants spread across the usable span (1–24)', type: 'integer' },
-				at: { description: 'one instant, session seconds', type: 'number' }
+				at: { description: 'an instant picked one by one, session seconds; repeat for more (at most 24), beside or instead of count', type: 'number' }
 			},
 			answer: ReviewAnswer
 		}

@@ -9,6 +9,7 @@ import { captureSessions, memberships, revisions, reviewDecisions, spotChecks, u
 import { timingTableOf, type TimingTableResult } from './exports';
 import { newId } from './ids';
 import { sendMail } from './mail';
+import { composeMail, type MailBlock } from './mail-body';
 import { parseInput, Refusal } from './refusal';
 import type { WorkspaceScope } from './scope';
 
@@ -384,9 +385,9 @@ export async function sendForReview(scope: WorkspaceScope, sessionId: string, ac
 	});
 	const reviewers = membersWithRole(scope, 'reviewer');
 	await mailEach(scope, reviewers, `Ready for review: ${session.name}`, [
-		`${actor.name} sent “${session.name}” (revision ${session.version}) for review.`,
-		text ? `\nNote: ${text}\n` : '',
-		`Spot-check it here: ${origin}/sessions/${session.id}/review`
+		{ kind: 'text', text: `${actor.name} sent “${session.name}” (revision ${session.version}) for review.` },
+		...noteBlock('Note', text),
+		{ kind: 'link', label: 'Spot-check it here', href: `${origin}/sessions/${session.id}/review` }
 	]);
 	return reviewOf(scope, sessionId);
 }
@@ -447,32 +448,39 @@ export async function decideReview(scope: WorkspaceScope, sessionId: string, act
 		return session;
 	});
 	const checks = spotChecksOf(scope, sessionId).filter((c) => c.sessionVersion === session.version);
-	const checkLines = checks.length
-		? ['', 'Spot checks of this revision:', ...checks.map((c) => `  ${c.instantSeconds.toFixed(3)} s  ${c.verdict === 'off' ? `off by about ${c.offByFrames} frames` : c.verdict.replace('_', ' ')}${c.note ? `  ${c.note}` : ''}`)]
+	const checkList: MailBlock[] = checks.length
+		? [
+				{
+					kind: 'list',
+					heading: 'Spot checks of this revision:',
+					items: checks.map(
+						(c) =>
+							`${c.instantSeconds.toFixed(3)} s: ${c.verdict === 'off' ? `off by about ${c.offByFrames} frames` : c.verdict.replace('_', ' ')}` +
+							(c.markedEvent ? `; marked event ${markedEventWords(c.markedEvent)}` : '') +
+							(c.note ? ` (“${c.note}”)` : '')
+					)
+				}
+			]
 		: [];
 	const link = `${origin}/sessions/${session.id}`;
 	if (decision === 'approve') {
 		await mailEach(scope, editorsOf(scope, session), `Approved: ${session.name}`, [
-			`${actor.name} approved “${session.name}”, revision ${session.version}.`,
-			text ? `\nNote: ${text}` : '',
-			...checkLines,
-			'',
-			`Session: ${link}`
+			{ kind: 'text', text: `${actor.name} approved “${session.name}”, revision ${session.version}.` },
+			...noteBlock('Note', text),
+			...checkList,
+			{ kind: 'link', label: 'Session', href: link }
 		]);
 		await mailEach(scope, membersWithRole(scope, 'processor'), `Approved and ready to export: ${session.name}`, [
-			`${actor.name} approved “${session.name}”, revision ${session.version}. Its timing table can go into the pipeline.`,
-			'',
-			`Export: ${link}/export`
+			{ kind: 'text', text: `${actor.name} approved “${session.name}”, revision ${session.version}. Its timing table can go into the pipeline.` },
+			{ kind: 'link', label: 'Export', href: `${link}/export` }
 		]);
 	} else {
 		await mailEach(scope, editorsOf(scope, session), `Sent back: ${session.name}`, [
-			`${actor.name} sent “${session.name}” (revision ${session.version}) back to aligned.`,
-			'',
-			`What to look at: ${text}`,
-			...checkLines,
-			'',
-			`Review: ${link}/review`,
-			`Workbench: ${link}/align`
+			{ kind: 'text', text: `${actor.name} sent “${session.name}” (revision ${session.version}) back to aligned.` },
+			...noteBlock('What to look at', text),
+			...checkList,
+			{ kind: 'link', label: 'Review', href: `${link}/review` },
+			{ kind: 'link', label: 'Workbench', href: `${link}/align` }
 		]);
 	}
 	return reviewOf(scope, sessionId);
@@ -507,11 +515,12 @@ function editorsOf(scope: WorkspaceScope, session: CaptureSession): Recipient[] 
 	return membersWithRole(scope, 'editor', ids);
 }
 
+const noteBlock = (label: string, text: string): MailBlock[] => (text ? [{ kind: 'quote', label, text }] : []);
+
 /** Mail goes out after the change is committed; a mail server that is down must not undo a decision. */
-async function mailEach(scope: WorkspaceScope, recipients: Recipient[], subject: string, lines: string[]): Promise<void> {
-	const text = lines.join('\n').replace(/\n{3,}/g, '\n\n');
+async function mailEach(scope: WorkspaceScope, recipients: Recipient[], subject: string, blocks: MailBlock[]): Promise<void> {
 	const results = await Promise.allSettled(
-		recipients.map((r) => sendMail({ to: `${r.name} <${r.email}>`, subject, text: `Hello ${r.name},\n\n${text}\n\n— Lockstep`, workspaceId: scope.workspaceId }))
+		recipients.map((r) => sendMail({ to: `${r.name} <${r.email}>`, subject, ...composeMail(subject, r.name, blocks), workspaceId: scope.workspaceId }))
 	);
 	for (const result of results) if (result.status === 'rejected') console.error('Review mail failed:', result.reason);
 }
