@@ -416,11 +416,18 @@ export async function recordSpotCheck(scope: WorkspaceScope, sessionId: string, 
 				markedEventJson: markedEvent ? JSON.stringify(markedEvent) : null
 			})
 			.run();
-		const verdict = check.verdict === 'in_sync' ? 'in sync' : check.verdict === 'off' ? `off by about ${check.offByFrames} frame${Math.abs(check.offByFrames ?? 0) === 1 ? '' : 's'}` : 'cannot tell';
+		const verdict = verdictWords(check);
 		const event = markedEvent ? `; marked event ${markedEventWords(markedEvent)}` : '';
 		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'spot_check', message: `spot-checked ${check.instantSeconds.toFixed(3)} s: ${verdict}${event}${check.note ? ` (“${check.note}”)` : ''}` });
 	});
 	return spotChecksOf(scope, sessionId).find((c) => c.id === id)!;
+}
+
+/** A check's verdict in words, for activity entries and mail. */
+function verdictWords(check: { verdict: SpotCheckView['verdict']; offByFrames: number | null }): string {
+	if (check.verdict === 'in_sync') return 'in sync';
+	if (check.verdict === 'cannot_tell') return 'cannot tell';
+	return `off by about ${check.offByFrames} frame${Math.abs(check.offByFrames ?? 0) === 1 ? '' : 's'}`;
 }
 
 /** The marked event's verdict in words, for activity entries and mail. */
@@ -455,7 +462,7 @@ export async function decideReview(scope: WorkspaceScope, sessionId: string, act
 					heading: 'Spot checks of this revision:',
 					items: checks.map(
 						(c) =>
-							`${c.instantSeconds.toFixed(3)} s: ${c.verdict === 'off' ? `off by about ${c.offByFrames} frames` : c.verdict.replace('_', ' ')}` +
+							`${c.instantSeconds.toFixed(3)} s: ${verdictWords(c)}` +
 							(c.markedEvent ? `; marked event ${markedEventWords(c.markedEvent)}` : '') +
 							(c.note ? ` (“${c.note}”)` : '')
 					)
