@@ -2,7 +2,7 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { expect, test, type APIRequestContext, type Page } from '@playwright/test';
 import { readFrameCode, type Truth } from '../scripts/fixtures/truth';
-import { apiAs, PEOPLE, signInAs, type DemoRole } from './helpers';
+import { apiAs, e2eDatabase, PEOPLE, signInAs, type DemoRole } from './helpers';
 
 /*
  * The review of the demo session ("Market Square fountain, lap 2", aligned): an editor sends it
@@ -97,6 +97,14 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 			await instant.getByLabel('Off', { exact: true }).check();
 			await instant.getByLabel('Off by (frames)').fill('1');
 		}
+		if (i === 2) {
+			// The same event marked in two cameras' strips travels with this check.
+			for (const label of ['Rig high', 'Rig mid']) {
+				await instant.getByRole('button', { name: new RegExp(`^Show ±2 frames of ${label} at`) }).click();
+				await instant.getByRole('group', { name: new RegExp(`^Frames around \\d+ of ${label}$`) }).getByRole('button', { name: /^Mark/ }).nth(2).click();
+			}
+			await expect(instant.getByLabel('Keep the event marked in 2 cameras with this check')).toBeChecked();
+		}
 		await instant.getByLabel('Note').fill(`check ${i + 1}`);
 		await instant.getByRole('button', { name: /^Record check/ }).click();
 		await expect(reviewer.getByRole('status').filter({ hasText: /Spot check at .* recorded/ })).toBeVisible();
@@ -104,14 +112,28 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 	const checks = reviewer.getByRole('region', { name: 'Spot checks' }).getByRole('row');
 	await expect(checks.filter({ hasText: /check [123]/ })).toHaveCount(3);
 	await expect(checks.filter({ hasText: 'Off by about 1 frame' })).toHaveCount(1);
-	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant.');
+	await expect(checks.filter({ hasText: 'check 3' }).getByText(/^Marked event: (agrees|disagrees)/)).toBeVisible();
+	// Written with characters HTML would read as markup: the mail's HTML version must show them as typed.
+	await reviewer.getByLabel('Notes for the editors').fill('The mid camera looks a frame late at the second instant <b>check</b> & "see" the strip.');
 	await reviewer.getByRole('button', { name: 'Send back with notes' }).click();
 	await expectStatus(reviewer, 'Aligned');
 	mail = await outboxSince(admin, seen);
 	const sentBack = mail.find((m) => m.toAddress.includes(PEOPLE.editor.email) && m.subject === `Sent back: ${DEMO}`);
 	expect(sentBack, 'the editor is told the session was sent back').toBeTruthy();
-	const { message } = (await (await admin.get(`/api/admin/outbox/${sentBack!.id}`)).json()) as { message: { textBody: string } };
-	expect(message.textBody).toContain('The mid camera looks a frame late');
+	const { message } = (await (await admin.get(`/api/admin/outbox/${sentBack!.id}`)).json()) as { message: { textBody: string; htmlBody: string | null } };
+	expect(message.textBody).toContain('What to look at: The mid camera looks a frame late at the second instant <b>check</b> & "see" the strip.');
+	// The HTML part arrived through the local SMTP server beside the text, with the note escaped and a link to the session.
+	expect(message.htmlBody).toContain('The mid camera looks a frame late at the second instant &lt;b&gt;check&lt;/b&gt; &amp; &quot;see&quot; the strip.');
+	expect(message.htmlBody).not.toContain('<b>check</b>');
+	expect(message.htmlBody).toContain(`<a href="${baseURL}/sessions/${id}/review">`);
+	// The outbox shows it in an empty sandbox, where the note reads as typed.
+	const adminPage = await (await browser.newContext()).newPage();
+	await signInAs(adminPage, 'admin');
+	await adminPage.goto(`/admin/outbox/${sentBack!.id}`);
+	const html = adminPage.locator(`iframe[title="HTML version of “Sent back: ${DEMO}”"]`);
+	await expect(html).toHaveAttribute('sandbox', '');
+	await expect(adminPage.frameLocator(`iframe[title="HTML version of “Sent back: ${DEMO}”"]`).getByText('<b>check</b> & "see" the strip.', { exact: false })).toBeVisible();
+	await adminPage.context().close();
 	mail.forEach((m) => seen.add(m.id));
 
 	// The editor nudges and sends again (by API, as a script would).
@@ -147,6 +169,7 @@ test('send for review, spot-check, send back, nudge, send again, approve, export
 	const activity = page.getByRole('region', { name: 'Activity' });
 	await expect(activity.getByText(/approved revision/).first()).toBeVisible();
 	await expect(activity.getByText(/sent revision \d+ back to the editors/).first()).toBeVisible();
+	await expect(activity.getByText(/marked event (agrees|disagrees) with the sound/).first()).toBeVisible();
 
 	// Leave the demo session aligned for the other files.
 	await nudgeThereAndBack(editorApi, id);
@@ -247,4 +270,102 @@ test('the slate clap marked in each camera agrees with the sound within a frame'
 	const { estimate } = (await response.json()) as { estimate: { cameras: { disagreementFrames: number }[] } };
 	for (const camera of estimate.cameras) expect(Math.abs(camera.disagreementFrames)).toBeLessThan(1);
 	await api.dispose();
+});
+
+test('a spot check keeps the result of the event marked with it, in the database and in every answer', async ({ baseURL }) => {
+	const editor = await apiAs(baseURL, 'editor');
+	const reviewer = await apiAs(baseURL, 'reviewer');
+	let session = await demoSession(editor);
+	expect(session.status).toBe('aligned');
+	const sent = await editor.post(`/api/sessions/${session.id}/review/send`, { data: { version: session.version, note: 'marked-event test' } });
+	expect(sent.status()).toBe(200);
+	session = await demoSession(editor);
+	const files: Record<string, string> = { 'Rig high': 'high.mp4', 'Rig mid': 'mid.mp4', 'Rig low (housing)': 'low.mp4' };
+	const marks = session.clips.filter((c) => files[c.cameraLabel]).map((c) => ({
+		clipId: c.id,
+		frame: truth.clips.find((t) => t.file === files[c.cameraLabel])!.marks.find((m) => m.label === 'slate clap')!.flashFrame
+	}));
+	const check = { version: session.version, instantSeconds: 12.5, verdict: 'in_sync', note: 'slate clap' };
+
+	// One camera is not an event check: refused with what to do, and nothing stored.
+	const single = await reviewer.post(`/api/sessions/${session.id}/review/checks`, { data: { ...check, marks: marks.slice(0, 1) } });
+	expect(single.status()).toBe(400);
+	expect((await single.json()).error.message).toContain('at least two cameras');
+	const badFrame = await reviewer.post(`/api/sessions/${session.id}/review/checks`, { data: { ...check, marks: [marks[0], { ...marks[1], frame: 9_999_999 }] } });
+	expect(badFrame.status()).toBe(400);
+	expect((await badFrame.json()).error.message).toContain('is not a frame of that clip');
+
+	const response = await reviewer.post(`/api/sessions/${session.id}/review/checks`, { data: { ...check, marks } });
+	expect(response.status()).toBe(201);
+	const { spotCheck } = (await response.json()) as { spotCheck: { id: string; markedEvent: { consistent: boolean; cameras: { clipId: string; label: string; frame: number; disagreementFrames: number }[] } } };
+	expect(spotCheck.markedEvent.cameras.map((c) => c.label).sort()).toEqual(Object.keys(files).sort());
+	// The fixture's truth puts the clap in these frames, so the picture agrees with the sound within a frame.
+	for (const camera of spotCheck.markedEvent.cameras) expect(Math.abs(camera.disagreementFrames)).toBeLessThan(1);
+	expect(spotCheck.markedEvent.consistent).toBe(true);
+
+	const review = (await (await editor.get(`/api/sessions/${session.id}/review`)).json()) as { spotChecks: { id: string; markedEvent: unknown }[] };
+	expect(review.spotChecks.find((c) => c.id === spotCheck.id)!.markedEvent).toEqual(spotCheck.markedEvent);
+	const db = e2eDatabase();
+	const stored = db.prepare('select marked_event_json from spot_checks where id = ?').get(spotCheck.id) as { marked_event_json: string };
+	db.close();
+	expect(JSON.parse(stored.marked_event_json).cameras.map((c: { frame: number }) => c.frame).sort()).toEqual(marks.map((m) => m.frame).sort());
+
+	// Leave the demo session aligned for the other files.
+	const back = await reviewer.post(`/api/sessions/${session.id}/review/decision`, { data: { version: session.version, decision: 'send_back', note: 'reset by the marked-event test' } });
+	expect(back.status()).toBe(200);
+	await editor.dispose();
+	await reviewer.dispose();
+});
+
+test('instants are picked by clicking the session timeline or from the keyboard, and shown as markers', async ({ page, baseURL }) => {
+	const api = await apiAs(baseURL, 'reviewer');
+	const session = await demoSession(api);
+	const { instants } = (await (await api.get(`/api/sessions/${session.id}/review?count=2`)).json()) as {
+		instants: { usableSpan: { startSeconds: number; endSeconds: number }; extent: { startSeconds: number; endSeconds: number } };
+	};
+	await api.dispose();
+	const { usableSpan, extent } = instants;
+	await signInAs(page, 'reviewer');
+	await page.goto(`/sessions/${session.id}/review?count=2`);
+	const cards = page.getByRole('region', { name: /^Instant / });
+	await expect(cards).toHaveCount(2);
+	const timeline = page.getByRole('slider', { name: 'Session timeline' });
+	// Every camera's lane is painted from the server's peaks.
+	await expect(page.locator('[data-lane][data-drawn="yes"]')).toHaveCount(session.clips.length);
+
+	// A click three quarters of the way along adds an instant there; the spread stays.
+	const box = (await timeline.boundingBox())!;
+	const inner = box.width - 2; // inside its 1 px border
+	const clickedSeconds = extent.startSeconds + 0.75 * (extent.endSeconds - extent.startSeconds);
+	await timeline.click({ position: { x: 1 + 0.75 * inner, y: box.height / 2 } });
+	await expect(page).toHaveURL(/count=2&at=/);
+	await expect(cards).toHaveCount(3);
+	const picked = cards.filter({ hasText: 'picked' });
+	await expect(picked).toHaveCount(1);
+	const shown = Number((await picked.getByRole('heading').textContent())!.match(/([\d.]+) s/)![1]);
+	// One pixel of the timeline is the most a click can be off by.
+	expect(Math.abs(shown - clickedSeconds)).toBeLessThanOrEqual((extent.endSeconds - extent.startSeconds) / inner + 0.001);
+	await expect(page.locator('[data-marker="picked"]')).toHaveCount(1);
+	await expect(page.locator('[data-marker="spread"]')).toHaveCount(2);
+
+	// From the keyboard: Home goes to the usable span's start, → moves a second, Enter adds.
+	await timeline.focus();
+	await page.keyboard.press('Home');
+	await page.keyboard.press('ArrowRight');
+	await page.keyboard.press('ArrowRight');
+	await expect(timeline).toHaveAttribute('aria-valuenow', String(Number((usableSpan.startSeconds + 2).toFixed(3))));
+	await page.keyboard.press('Enter');
+	const keyed = (usableSpan.startSeconds + 2).toFixed(3);
+	await expect(page.getByRole('heading', { name: `Instant ${keyed} s picked` })).toBeVisible();
+	await expect(page.locator('[data-marker="picked"]')).toHaveCount(2);
+	await expect(timeline).toBeFocused();
+
+	// A picked instant is removed from its chip.
+	await page.getByRole('link', { name: `Remove the instant at ${keyed} s` }).click();
+	await expect(page.locator('[data-marker="picked"]')).toHaveCount(1);
+	await expect(cards).toHaveCount(3);
+	// Too many picks are refused in words.
+	const many = Array.from({ length: 25 }, (_, i) => `at=${usableSpan.startSeconds + i}`).join('&');
+	await page.goto(`/sessions/${session.id}/review?count=2&${many}`);
+	await expect(page.getByRole('alert')).toHaveText('Pick at most 24 instants at a time; remove some first.');
 });

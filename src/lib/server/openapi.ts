@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { ROLE_NAMES, PERMISSIONS, type Permission } from '$lib/permissions';
 import { AlignmentEditRequest, RevertRequest } from './alignment-edits';
 import { ClipEditFields } from './clips';
-import { ReviewDecisionInput, SendForReview, SpotCheckInput } from './review';
+import { MarkedEventResult, ReviewDecisionInput, SendForReview, SpotCheckInput, SpotCheckRecord } from './review';
 import { ImportRequest } from './import-browse';
 import { ImportRootFields } from './import-roots';
 import { InvitationFields } from './invitations';
@@ -21,6 +21,8 @@ interface Operation {
 	summary: string;
 	permission: Permission | 'signed-in';
 	body?: z.ZodType;
+	/** The successful JSON answer, where the document describes it. */
+	answer?: z.ZodType;
 	query?: Record<string, { description: string; type: 'string' | 'number' | 'integer'; required?: boolean }>;
 	/** Content type of a successful answer, when not JSON. */
 	produces?: string;
@@ -28,6 +30,9 @@ interface Operation {
 }
 
 const MemberChange = z.object({ role: z.enum(ROLE_NAMES).optional(), active: z.boolean().optional() });
+
+/** Every answer that carries the review names its spot checks (each with its marked event, if any). */
+const ReviewAnswer = z.looseObject({ spotChecks: z.array(SpotCheckRecord) });
 
 const id = { in: 'path', required: true, schema: { type: 'string' } } as const;
 
@@ -127,18 +132,28 @@ const OPERATIONS: Record<string, Partial<Record<Method, Operation>>> = {
 			permission: 'sessions:read',
 			query: {
 				count: { description: 'instants spread across the usable span (1–24)', type: 'integer' },
-				at: { description: 'one instant, session seconds', type: 'number' }
-			}
+				at: { description: 'an instant picked one by one, session seconds; repeat for more (at most 24), beside or instead of count', type: 'number' }
+			},
+			answer: ReviewAnswer
 		}
 	},
-	'/api/sessions/{id}/review/send': { post: { summary: 'Send an aligned session for review', permission: 'review:send', body: SendForReview } },
-	'/api/sessions/{id}/review/checks': { post: { summary: 'Record a spot check while the session is in review', permission: 'review:check', body: SpotCheckInput, status: 201 } },
-	'/api/sessions/{id}/review/decision': { post: { summary: 'Approve, or send back to aligned with notes', permission: 'review:decide', body: ReviewDecisionInput } },
+	'/api/sessions/{id}/review/send': { post: { summary: 'Send an aligned session for review', permission: 'review:send', body: SendForReview, answer: ReviewAnswer } },
+	'/api/sessions/{id}/review/checks': {
+		post: {
+			summary: 'Record a spot check while the session is in review; with marks, the marked event\'s result is kept with it',
+			permission: 'review:check',
+			body: SpotCheckInput,
+			answer: z.object({ spotCheck: SpotCheckRecord }),
+			status: 201
+		}
+	},
+	'/api/sessions/{id}/review/decision': { post: { summary: 'Approve, or send back to aligned with notes', permission: 'review:decide', body: ReviewDecisionInput, answer: ReviewAnswer } },
 	'/api/sessions/{id}/review/marked-event': {
 		get: {
 			summary: 'The offsets one visible event implies against the sound',
 			permission: 'sessions:read',
-			query: { mark: { description: 'clipId:frame, once per camera (two or more)', type: 'string', required: true } }
+			query: { mark: { description: 'clipId:frame, once per camera (two or more)', type: 'string', required: true } },
+			answer: z.object({ estimate: MarkedEventResult })
 		}
 	},
 	'/api/jobs/{id}/cancel': { post: { summary: 'Cancel a queued or running job', permission: 'alignment:run' } },
@@ -204,7 +219,7 @@ export function openApiDocument(origin: string) {
 				],
 				...(op.body ? { requestBody: { required: true, content: { 'application/json': { schema: z.toJSONSchema(op.body, { io: 'input', unrepresentable: 'any' }) } } } } : {}),
 				responses: {
-					[status]: { description: 'Done', content: { [op.produces ?? 'application/json']: {} } },
+					[status]: { description: 'Done', content: { [op.produces ?? 'application/json']: op.answer ? { schema: z.toJSONSchema(op.answer, { io: 'output', unrepresentable: 'any' }) } : {} } },
 					default: { description: 'Refused: what was wrong and what to do', content: { 'application/json': { schema: ERROR_SCHEMA } } }
 				}
 			};

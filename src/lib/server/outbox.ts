@@ -53,6 +53,8 @@ export interface OutboxMessage extends OutboxEntry {
 	fromAddress: string;
 	/** Null when the body is withheld (personal mail sent through a real relay). */
 	textBody: string | null;
+	/** The HTML version, when the message had one; withheld like the text. */
+	htmlBody: string | null;
 }
 
 export function outboxMessage(scope: WorkspaceScope, id: string): OutboxMessage {
@@ -71,6 +73,7 @@ export function outboxMessage(scope: WorkspaceScope, id: string): OutboxMessage 
 		createdAt: row.createdAt,
 		transport: row.transport,
 		personal,
-		textBody: personal && row.transport === 'relay' ? null : row.textBody
+		textBody: personal && row.transport === 'relay' ? null : row.textBody,
+		htmlBody: personal && row.transport === 'relay' ? null : row.htmlBody
 	};
 }

@@ -4,10 +4,12 @@ import { buildTimingTable, type TableRow, type TimingTable } from '$lib/sync/tim
 import { MarkedEventError, markedEventEstimate, type MarkedEventEstimate } from '$lib/sync/marked-event';
 import { activityOfSession, recordActivity } from './activity';
 import { db } from './db';
-import { captureSessions, memberships, revisions, reviewDecisions, spotChecks, users, type CaptureSession } from './db/schema';
+import { clipsOfSession } from './capture-sessions';
+import { captureSessions, memberships, revisions, reviewDecisions, spotChecks, users, type CaptureSession, type Clip } from './db/schema';
 import { timingTableOf, type TimingTableResult } from './exports';
 import { newId } from './ids';
 import { sendMail } from './mail';
+import { composeMail, type MailBlock } from './mail-body';
 import { parseInput, Refusal } from './refusal';
 import type { WorkspaceScope } from './scope';
 
@@ -24,6 +26,28 @@ import type { WorkspaceScope } from './scope';
 const version = z.number('Send the session version you looked at (version).').int().positive();
 const note = (max: number) => z.string().trim().max(max, `Keep the note under ${max} characters.`).default('');
 
+/** One camera's marked frame: `clipId:frame` as in a query or form, or `{ clipId, frame }` in JSON. */
+const Mark = z.union(
+	[
+		z
+			.string()
+			.regex(/^[A-Za-z0-9_-]+:\d+$/, 'Give each mark as clipId:frame.')
+			.transform((s) => {
+				const [clipId, frame] = s.split(':');
+				return { clipId, frame: Number(frame) };
+			}),
+		z.object({
+			clipId: z.string().regex(/^[A-Za-z0-9_-]+$/, 'Give each mark\'s clipId as the clip\'s id.'),
+			frame: z.number('Give each mark\'s frame as a number.').int('Give each mark\'s frame as a whole frame index.').min(0, 'Frame indices start at 0.')
+		})
+	],
+	'Give each mark as clipId:frame or { clipId, frame }.'
+);
+const Marks = z
+	.array(Mark, 'Give the marks as a list, one per camera.')
+	.min(2, 'Mark the event in at least two cameras (mark=clipId:frame, twice or more).')
+	.max(16, 'Mark at most 16 cameras.');
+
 export const SendForReview = z.object({ version, note: note(2000) });
 export const SpotCheckInput = z
 	.object({
@@ -31,7 +55,9 @@ export const SpotCheckInput = z
 		instantSeconds: z.number('Give the instant in session seconds (instantSeconds).').finite(),
 		verdict: z.enum(['in_sync', 'off', 'cannot_tell'], 'Give a verdict: in_sync, off or cannot_tell.'),
 		offByFrames: z.number('Give "off by" as a number of frames.').min(-1000).max(1000).nullable().default(null),
-		note: note(2000)
+		note: note(2000),
+		/** The same visible event marked in two or more cameras; its result is kept with the check. */
+		marks: Marks.nullable().default(null)
 	})
 	.refine((c) => c.verdict !== 'off' || (c.offByFrames !== null && c.offByFrames !== 0), {
 		message: 'Say by about how many frames it is off (offByFrames, not 0).'
@@ -42,18 +68,54 @@ export const ReviewDecisionInput = z
 
 export type SpotCheckFields = z.input<typeof SpotCheckInput>;
 
+/** What a spot check keeps of its marked-event check: the estimate as it stood for the checked revision. */
+export const MarkedEventResult = z.object({
+	anchorClipId: z.string(),
+	eventSessionSeconds: z.number(),
+	worstDisagreementMs: z.number(),
+	consistent: z.boolean(),
+	cameras: z.array(
+		z.object({
+			clipId: z.string(),
+			label: z.string(),
+			frame: z.number().int(),
+			impliedOffsetSeconds: z.number(),
+			audioOffsetSeconds: z.number(),
+			disagreementMs: z.number(),
+			disagreementFrames: z.number(),
+			resolutionMs: z.number()
+		})
+	)
+});
+export type MarkedEventResult = z.infer<typeof MarkedEventResult>;
+
+/** A stored result that no longer reads as one (hand-edited, or from an older shape) shows as none rather than breaking the history. */
+function markedEventFromJson(json: string | null): MarkedEventResult | null {
+	if (json === null) return null;
+	try {
+		const parsed = MarkedEventResult.safeParse(JSON.parse(json));
+		return parsed.success ? parsed.data : null;
+	} catch {
+		return null;
+	}
+}
+
 // ─── Reading ────────────────────────────────────────────────────────────────
 
-export interface SpotCheckView {
-	id: string;
-	sessionVersion: number;
-	instantSeconds: number;
-	verdict: 'in_sync' | 'off' | 'cannot_tell';
-	offByFrames: number | null;
-	note: string;
-	who: string;
-	createdAt: number;
-}
+/** A spot check as the API answers it (and the OpenAPI document describes it). */
+export const SpotCheckRecord = z.object({
+	id: z.string(),
+	sessionVersion: z.number().int(),
+	instantSeconds: z.number(),
+	verdict: z.enum(['in_sync', 'off', 'cannot_tell']),
+	offByFrames: z.number().nullable(),
+	note: z.string(),
+	/** The visible event the reviewer marked with this check, or null. */
+	markedEvent: MarkedEventResult.nullable(),
+	who: z.string(),
+	createdAt: z.number().describe('milliseconds since 1970')
+});
+export type SpotCheckView = z.infer<typeof SpotCheckRecord>;
 
 export interface DecisionView {
 	id: string;
@@ -79,6 +141,7 @@ export function spotChecksOf(scope: WorkspaceScope, sessionId: string): SpotChec
 			verdict: check.verdict,
 			offByFrames: check.offByFrames,
 			note: check.note,
+			markedEvent: markedEventFromJson(check.markedEventJson),
 			who: who ?? 'an API token',
 			createdAt: check.createdAt.getTime()
 		}));
@@ -127,18 +190,30 @@ export type ReviewState = ReturnType<typeof reviewOf>;
 
 // ─── Instants to check ──────────────────────────────────────────────────────
 
-export type InstantPick = { kind: 'count'; count: number } | { kind: 'at'; seconds: number };
+/** N instants spread across the usable span (0: none), and instants picked one by one, session seconds. */
+export interface InstantPick {
+	count: number;
+	at: number[];
+}
 
-export const InstantQuery = z.union([
-	z.object({ count: z.coerce.number('count must be a number.').int('count must be a whole number.').min(1, 'Ask for at least one instant.').max(24, 'Ask for at most 24 instants at a time.') }),
-	z.object({ at: z.coerce.number('at must be a session time in seconds.').finite() })
-]);
+const MAX_PICKED = 24;
 
+export const InstantQuery = z.object({
+	count: z.coerce.number('count must be a number.').int('count must be a whole number.').min(1, 'Ask for at least one instant.').max(24, 'Ask for at most 24 instants at a time.').optional(),
+	at: z
+		.array(z.coerce.number('at must be a session time in seconds.').finite('at must be a session time in seconds.'))
+		.max(MAX_PICKED, `Pick at most ${MAX_PICKED} instants at a time; remove some first.`)
+});
+
+/** `?count=N` and `?at=<seconds>` (any number of times, each an instant picked on the timeline); null when neither is asked. */
 export function instantPickOf(params: URLSearchParams): InstantPick | null {
 	if (!params.has('count') && !params.has('at')) return null;
-	const raw = params.has('at') && params.get('at') !== '' ? { at: params.get('at') } : { count: params.get('count') };
-	const parsed = parseInput(InstantQuery, raw);
-	return 'at' in parsed ? { kind: 'at', seconds: parsed.at } : { kind: 'count', count: parsed.count };
+	const at = params.getAll('at').filter((t) => t.trim() !== '');
+	const parsed = parseInput(InstantQuery, { count: params.get('count')?.trim() || undefined, at });
+	if (parsed.count === undefined && parsed.at.length === 0) throw new Refusal('invalid_input', 'Ask for a number of instants (count) or pick one (at).', 400);
+	// An instant picked twice (a double click) is checked once; a millisecond tells instants apart on any camera.
+	const picked = [...new Set(parsed.at.map((t) => Math.round(t * 1000) / 1000))].sort((a, b) => a - b);
+	return { count: parsed.count ?? 0, at: picked };
 }
 
 export interface ReviewCamera {
@@ -150,59 +225,72 @@ export interface ReviewCamera {
 	frameCount: number;
 	offsetSeconds: number;
 	driftPpm: number;
+	/** Media length in the clip's own time, for drawing its lane. */
+	durationSeconds: number;
+	/** Whether the server has drawn its waveform peaks yet. */
+	hasPeaks: boolean;
 }
+
+/** A row of the timing table at an instant to check; `picked` when a person chose it, rather than the spread. */
+export type ReviewRow = TableRow & { picked: boolean };
 
 export interface ReviewInstants {
 	usableSpan: { startSeconds: number; endSeconds: number };
+	/** From the first camera's first sample to the last camera's last, session seconds. */
+	extent: { startSeconds: number; endSeconds: number };
 	toleranceMs: number;
 	cameras: ReviewCamera[];
-	rows: TableRow[];
+	rows: ReviewRow[];
 }
 
-function camerasOf(table: TimingTable): ReviewCamera[] {
-	return table.clips.map((c) => ({ id: c.id, label: c.label, position: c.position, isReference: c.isReference, fps: c.frameRate.fps, frameCount: c.frameCount, offsetSeconds: c.offsetSeconds, driftPpm: c.driftPpm }));
+function camerasOf(table: TimingTable, clipRows: Clip[]): ReviewCamera[] {
+	return table.clips.map((c) => {
+		const row = clipRows.find((r) => r.id === c.id);
+		return {
+			id: c.id,
+			label: c.label,
+			position: c.position,
+			isReference: c.isReference,
+			fps: c.frameRate.fps,
+			frameCount: c.frameCount,
+			offsetSeconds: c.offsetSeconds,
+			driftPpm: c.driftPpm,
+			durationSeconds: row?.durationSeconds ?? c.frameCount / c.frameRate.fps,
+			hasPeaks: !!row?.peaksPath
+		};
+	});
 }
 
 /**
  * Each camera's nearest frame (timecode and residual) at N instants spread across the usable
- * span, or at one typed session time: the timing table's own arithmetic, so the review sees
- * exactly what the export will write.
+ * span and at the instants picked one by one, in time order: the timing table's own
+ * arithmetic, so the review sees exactly what the export will write.
  */
 export async function reviewInstants(scope: WorkspaceScope, sessionId: string, pick: InstantPick): Promise<ReviewInstants> {
 	const result: TimingTableResult = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: 1 }, cameras: null, toleranceMs: null });
 	const { startSeconds, endSeconds } = result.table.usableSpan;
-	// N instants at the middles of N equal parts of the span, away from its edges where a camera may just be starting;
-	// one typed instant as the single middle of a span a microsecond wide around it.
-	const part = pick.kind === 'count' ? (endSeconds - startSeconds) / pick.count : 0;
-	const span = pick.kind === 'count' ? { startSeconds: startSeconds + part / 2, endSeconds: endSeconds - part / 2 + (pick.count === 1 ? 1e-9 : 0) } : { startSeconds: pick.seconds - 5e-7, endSeconds: pick.seconds + 5e-7 };
-	const table = buildTimingTable({
-		session: result.table.session,
-		usableSpan: span,
-		clips: result.inputs,
-		instants: { kind: 'count', count: pick.kind === 'count' ? pick.count : 1 }
-	});
-	const rows = pick.kind === 'at' ? table.rows.map((row) => ({ ...row, sessionSeconds: pick.seconds })) : table.rows;
-	return { usableSpan: result.table.usableSpan, toleranceMs: result.table.toleranceMs, cameras: camerasOf(result.table), rows };
+	const rowsOver = (span: { startSeconds: number; endSeconds: number }, count: number) =>
+		buildTimingTable({ session: result.table.session, usableSpan: span, clips: result.inputs, instants: { kind: 'count', count } }).rows;
+	// N instants at the middles of N equal parts of the span, away from its edges where a camera may just be starting.
+	const part = (endSeconds - startSeconds) / Math.max(1, pick.count);
+	const spread = pick.count > 0 ? rowsOver({ startSeconds: startSeconds + part / 2, endSeconds: endSeconds - part / 2 + (pick.count === 1 ? 1e-9 : 0) }, pick.count) : [];
+	// A picked instant is the single middle of a span a microsecond wide around it.
+	const picked = pick.at.map((seconds, i) => ({ ...rowsOver({ startSeconds: seconds - 5e-7, endSeconds: seconds + 5e-7 }, 1)[0], index: pick.count + i, sessionSeconds: seconds }));
+	const rows: ReviewRow[] = [...spread.map((row) => ({ ...row, picked: false })), ...picked.map((row) => ({ ...row, picked: true }))].sort((a, b) => a.sessionSeconds - b.sessionSeconds);
+	const cameras = camerasOf(result.table, clipsOfSession(scope, sessionId));
+	const extent = {
+		startSeconds: Math.min(...cameras.map((c) => c.offsetSeconds)),
+		endSeconds: Math.max(...cameras.map((c) => c.offsetSeconds + c.durationSeconds * (1 + c.driftPpm * 1e-6)))
+	};
+	return { usableSpan: result.table.usableSpan, extent, toleranceMs: result.table.toleranceMs, cameras, rows };
 }
 
 // ─── The marked-event check ─────────────────────────────────────────────────
 
-export const MarkQuery = z
-	.array(
-		z
-			.string()
-			.regex(/^[A-Za-z0-9_-]+:\d+$/, 'Give each mark as clipId:frame.')
-			.transform((s) => {
-				const [clipId, frame] = s.split(':');
-				return { clipId, frame: Number(frame) };
-			}),
-		'Give each mark as clipId:frame.'
-	)
-	.min(2, 'Mark the event in at least two cameras (mark=clipId:frame, twice or more).')
-	.max(16);
+export const MarkQuery = Marks;
 
-/** The offsets implied by one visible event marked in several cameras, against the audio result. */
-export async function markedEventOf(scope: WorkspaceScope, sessionId: string, marks: { clipId: string; frame: number }[]): Promise<MarkedEventEstimate> {
+/** The offsets implied by one visible event marked in several cameras, against the audio result; each camera named. */
+export async function markedEventOf(scope: WorkspaceScope, sessionId: string, marks: { clipId: string; frame: number }[]): Promise<MarkedEventResult> {
 	const result = await timingTableOf(scope, sessionId, { instants: { kind: 'count', count: 1 }, cameras: null, toleranceMs: null });
 	const inputs = marks.map((mark) => {
 		const input = result.inputs.find((i) => i.id === mark.clipId);
@@ -210,7 +298,8 @@ export async function markedEventOf(scope: WorkspaceScope, sessionId: string, ma
 		return { clipId: input.id, clip: { placement: input.placement, frames: input.frames }, frameRate: input.frameRate, frame: mark.frame };
 	});
 	try {
-		return markedEventEstimate(inputs, result.session.referenceClipId);
+		const estimate: MarkedEventEstimate = markedEventEstimate(inputs, result.session.referenceClipId);
+		return { ...estimate, cameras: estimate.cameras.map((c) => ({ ...c, label: result.inputs.find((i) => i.id === c.clipId)!.label })) };
 	} catch (e) {
 		if (e instanceof MarkedEventError) throw new Refusal(e.code, e.message, 400);
 		throw e;
@@ -296,16 +385,18 @@ export async function sendForReview(scope: WorkspaceScope, sessionId: string, ac
 	});
 	const reviewers = membersWithRole(scope, 'reviewer');
 	await mailEach(scope, reviewers, `Ready for review: ${session.name}`, [
-		`${actor.name} sent “${session.name}” (revision ${session.version}) for review.`,
-		text ? `\nNote: ${text}\n` : '',
-		`Spot-check it here: ${origin}/sessions/${session.id}/review`
+		{ kind: 'text', text: `${actor.name} sent “${session.name}” (revision ${session.version}) for review.` },
+		...noteBlock('Note', text),
+		{ kind: 'link', label: 'Spot-check it here', href: `${origin}/sessions/${session.id}/review` }
 	]);
 	return reviewOf(scope, sessionId);
 }
 
-/** Reviewer: one spot check of an instant, while the session is in review. */
-export function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown): SpotCheckView {
+/** Reviewer: one spot check of an instant, while the session is in review, with the marked event if one was marked. */
+export async function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor: Actor, input: unknown): Promise<SpotCheckView> {
 	const check = parseInput(SpotCheckInput, input);
+	// Worked out against the timing as it is now; the version check below makes sure that is the revision the reviewer saw.
+	const markedEvent = check.marks ? await markedEventOf(scope, sessionId, check.marks) : null;
 	const id = newId();
 	db.transaction(() => {
 		const session = scope.session(sessionId);
@@ -321,13 +412,27 @@ export function recordSpotCheck(scope: WorkspaceScope, sessionId: string, actor:
 				reviewerId: actor.userId,
 				verdict: check.verdict,
 				offByFrames: check.verdict === 'off' ? check.offByFrames : null,
-				note: check.note
+				note: check.note,
+				markedEventJson: markedEvent ? JSON.stringify(markedEvent) : null
 			})
 			.run();
-		const verdict = check.verdict === 'in_sync' ? 'in sync' : check.verdict === 'off' ? `off by about ${check.offByFrames} frame${Math.abs(check.offByFrames ?? 0) === 1 ? '' : 's'}` : 'cannot tell';
-		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'spot_check', message: `spot-checked ${check.instantSeconds.toFixed(3)} s: ${verdict}${check.note ? ` (“${check.note}”)` : ''}` });
+		const verdict = verdictWords(check);
+		const event = markedEvent ? `; marked event ${markedEventWords(markedEvent)}` : '';
+		recordActivity(scope, { sessionId, userId: actor.userId, kind: 'spot_check', message: `spot-checked ${check.instantSeconds.toFixed(3)} s: ${verdict}${event}${check.note ? ` (“${check.note}”)` : ''}` });
 	});
 	return spotChecksOf(scope, sessionId).find((c) => c.id === id)!;
+}
+
+/** A check's verdict in words, for activity entries and mail. */
+function verdictWords(check: { verdict: SpotCheckView['verdict']; offByFrames: number | null }): string {
+	if (check.verdict === 'in_sync') return 'in sync';
+	if (check.verdict === 'cannot_tell') return 'cannot tell';
+	return `off by about ${check.offByFrames} frame${Math.abs(check.offByFrames ?? 0) === 1 ? '' : 's'}`;
+}
+
+/** The marked event's verdict in words, for activity entries and mail. */
+export function markedEventWords(result: MarkedEventResult): string {
+	return `${result.consistent ? 'agrees with' : 'disagrees with'} the sound (worst ${result.worstDisagreementMs.toFixed(1)} ms)`;
 }
 
 /** Reviewer: approve (in review → approved) or send back with notes (in review → aligned). */
@@ -350,32 +455,39 @@ export async function decideReview(scope: WorkspaceScope, sessionId: string, act
 		return session;
 	});
 	const checks = spotChecksOf(scope, sessionId).filter((c) => c.sessionVersion === session.version);
-	const checkLines = checks.length
-		? ['', 'Spot checks of this revision:', ...checks.map((c) => `  ${c.instantSeconds.toFixed(3)} s  ${c.verdict === 'off' ? `off by about ${c.offByFrames} frames` : c.verdict.replace('_', ' ')}${c.note ? `  ${c.note}` : ''}`)]
+	const checkList: MailBlock[] = checks.length
+		? [
+				{
+					kind: 'list',
+					heading: 'Spot checks of this revision:',
+					items: checks.map(
+						(c) =>
+							`${c.instantSeconds.toFixed(3)} s: ${verdictWords(c)}` +
+							(c.markedEvent ? `; marked event ${markedEventWords(c.markedEvent)}` : '') +
+							(c.note ? ` (“${c.note}”)` : '')
+					)
+				}
+			]
 		: [];
 	const link = `${origin}/sessions/${session.id}`;
 	if (decision === 'approve') {
 		await mailEach(scope, editorsOf(scope, session), `Approved: ${session.name}`, [
-			`${actor.name} approved “${session.name}”, revision ${session.version}.`,
-			text ? `\nNote: ${text}` : '',
-			...checkLines,
-			'',
-			`Session: ${link}`
+			{ kind: 'text', text: `${actor.name} approved “${session.name}”, revision ${session.version}.` },
+			...noteBlock('Note', text),
+			...checkList,
+			{ kind: 'link', label: 'Session', href: link }
 		]);
 		await mailEach(scope, membersWithRole(scope, 'processor'), `Approved and ready to export: ${session.name}`, [
-			`${actor.name} approved “${session.name}”, revision ${session.version}. Its timing table can go into the pipeline.`,
-			'',
-			`Export: ${link}/export`
+			{ kind: 'text', text: `${actor.name} approved “${session.name}”, revision ${session.version}. Its timing table can go into the pipeline.` },
+			{ kind: 'link', label: 'Export', href: `${link}/export` }
 		]);
 	} else {
 		await mailEach(scope, editorsOf(scope, session), `Sent back: ${session.name}`, [
-			`${actor.name} sent “${session.name}” (revision ${session.version}) back to aligned.`,
-			'',
-			`What to look at: ${text}`,
-			...checkLines,
-			'',
-			`Review: ${link}/review`,
-			`Workbench: ${link}/align`
+			{ kind: 'text', text: `${actor.name} sent “${session.name}” (revision ${session.version}) back to aligned.` },
+			...noteBlock('What to look at', text),
+			...checkList,
+			{ kind: 'link', label: 'Review', href: `${link}/review` },
+			{ kind: 'link', label: 'Workbench', href: `${link}/align` }
 		]);
 	}
 	return reviewOf(scope, sessionId);
@@ -410,11 +522,12 @@ function editorsOf(scope: WorkspaceScope, session: CaptureSession): Recipient[] 
 	return membersWithRole(scope, 'editor', ids);
 }
 
+const noteBlock = (label: string, text: string): MailBlock[] => (text ? [{ kind: 'quote', label, text }] : []);
+
 /** Mail goes out after the change is committed; a mail server that is down must not undo a decision. */
-async function mailEach(scope: WorkspaceScope, recipients: Recipient[], subject: string, lines: string[]): Promise<void> {
-	const text = lines.join('\n').replace(/\n{3,}/g, '\n\n');
+async function mailEach(scope: WorkspaceScope, recipients: Recipient[], subject: string, blocks: MailBlock[]): Promise<void> {
 	const results = await Promise.allSettled(
-		recipients.map((r) => sendMail({ to: `${r.name} <${r.email}>`, subject, text: `Hello ${r.name},\n\n${text}\n\n— Lockstep`, workspaceId: scope.workspaceId }))
+		recipients.map((r) => sendMail({ to: `${r.name} <${r.email}>`, subject, ...composeMail(subject, r.name, blocks), workspaceId: scope.workspaceId }))
 	);
 	for (const result of results) if (result.status === 'rejected') console.error('Review mail failed:', result.reason);
 }

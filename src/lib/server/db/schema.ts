@@ -307,6 +307,8 @@ export const spotChecks = sqliteTable('spot_checks', {
 	verdict: text('verdict', { enum: ['in_sync', 'off', 'cannot_tell'] }).notNull(),
 	offByFrames: real('off_by_frames'),
 	note: text('note').notNull().default(''),
+	/** The marked-event check made with this spot check (MarkedEventResult in review.ts), or null. */
+	markedEventJson: text('marked_event_json'),
 	createdAt: createdAt()
 });
 export type SpotCheck = typeof spotChecks.$inferSelect;

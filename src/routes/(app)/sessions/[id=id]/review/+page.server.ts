@@ -5,7 +5,7 @@ import { formFields, formRefusal, Refusal } from '$lib/server/refusal';
 import { actorOf, decideReview, instantPickOf, recordSpotCheck, reviewInstants, reviewOf, sendForReview, type InstantPick, type ReviewInstants } from '$lib/server/review';
 import type { Actions, PageServerLoad } from './$types';
 
-const DEFAULT_PICK: InstantPick = { kind: 'count', count: 3 };
+const DEFAULT_PICK: InstantPick = { count: 3, at: [] };
 
 export const load = (async (event) => {
 	const { scope, role } = requirePermission(event, 'sessions:read');
@@ -48,14 +48,17 @@ export const actions = {
 	check: async (event) => {
 		const { scope, userId } = requirePermission(event, 'review:check');
 		scope.session(event.params.id);
-		const fields = formFields(await event.request.formData());
+		const data = await event.request.formData();
+		const fields = formFields(data);
+		const marks = data.getAll('mark').filter((m) => typeof m === 'string');
 		try {
-			recordSpotCheck(scope, event.params.id, actorOf(userId), {
+			await recordSpotCheck(scope, event.params.id, actorOf(userId), {
 				version: numberOrNull(fields.version),
 				instantSeconds: numberOrNull(fields.instantSeconds),
 				verdict: fields.verdict,
 				offByFrames: fields.verdict === 'off' ? numberOrNull(fields.offByFrames) : null,
-				note: fields.note ?? ''
+				note: fields.note ?? '',
+				marks: marks.length ? marks : null
 			});
 			return { saved: `Spot check at ${Number(fields.instantSeconds).toFixed(3)} s recorded.`, checkedInstant: fields.instantSeconds };
 		} catch (e) {

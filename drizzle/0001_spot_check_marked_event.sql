@@ -1,0 +1,1 @@
+ALTER TABLE `spot_checks` ADD `marked_event_json` text;
