@@ -135,8 +135,8 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const sampleRate = options.analysisSampleRate ?? 8000;
 	const progress = options.onProgress ?? (() => {});
 
-	// Probe every file and start decoding at once: a decode does not need its probe (the buffer is
-	// sized when the probe answers), and waiting for probes first idles the cores for a tenth of a second.
+	// Probe every file and start decoding at once: a decode does not need its probe, and waiting
+	// for probes first idles the cores for a tenth of a second.
 	const stop = new AbortController();
 	const stopDecodes = () => stop.abort();
 	options.signal?.addEventListener('abort', stopDecodes, { once: true });
@@ -154,9 +154,8 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const engine = new Promise<(pcm: PcmTrack) => Promise<AnalysisTrack>>((resolve) => (engineKnown = resolve));
 	const decodes = mapLimited(paths, concurrency, async (path, index) => {
 		const probe = probing[index];
-		const expectedSeconds = probe.then((p) => p.durationSeconds + Math.max(0, p.audio?.startSeconds ?? 0)).catch(() => undefined);
 		try {
-			const pcm = await decodeAudio(path, { sampleRate, expectedSeconds, signal: stop.signal });
+			const pcm = await decodeAudio(path, { sampleRate, signal: stop.signal });
 			const prepare = await engine;
 			ready[index].settle(prepare(pcm));
 		} catch (error) {

@@ -1,10 +1,10 @@
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mediaBinaries } from './binaries';
-import { decodeAudio } from './decode';
+import { decodeAudio, scratchFolder, sweepAbandonedFolders } from './decode';
 import { probeMedia } from './probe';
 
 let dir = '';
@@ -50,7 +50,7 @@ afterAll(() => {
 
 describe('decodeAudio', () => {
 	it('puts sample k at clip time k / rate, the AAC priming removed', async () => {
-		const pcm = await decodeAudio(join(dir, 'click.mp4'), { sampleRate, expectedSeconds: 3 });
+		const pcm = await decodeAudio(join(dir, 'click.mp4'), { sampleRate });
 		expect(pcm.sampleRate).toBe(sampleRate);
 		// The click was written at 1.000–1.002 s (aevalsrc above); ISO/IEC 14496-12 edit lists remove the encoder delay.
 		expect(Math.abs(clickSeconds(pcm.samples) - 1.001)).toBeLessThan(1.5e-3);
@@ -59,7 +59,7 @@ describe('decodeAudio', () => {
 	it('keeps audio that starts after the video where the container places it', async () => {
 		const probe = await probeMedia(join(dir, 'late-audio.mp4'));
 		expect(probe.audio?.startSeconds).toBeGreaterThan(0.4);
-		const pcm = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate, expectedSeconds: probe.durationSeconds });
+		const pcm = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate });
 		// Shifted by the 0.5 s timestamp offset (STACK.md: the decoded samples' timestamps place them).
 		expect(Math.abs(clickSeconds(pcm.samples) - 1.501)).toBeLessThan(1.5e-3);
 		// Leading silence fills the gap before the audio's first sample.
@@ -79,13 +79,22 @@ describe('decodeAudio', () => {
 		expect(bestShift(swrPhone.samples, soxrPhone.samples, 5 * sampleRate, sampleRate, 800)).toBe(0);
 	});
 
-	it('grows its buffer when the length is unknown or arrives late, losing no sample', async () => {
-		const known = await decodeAudio(join(dir, 'click.mp4'), { sampleRate, expectedSeconds: 3 });
-		// A 0.01 s guess that is corrected only after the decode has begun, and no guess at all.
-		const late = await decodeAudio(join(dir, 'click.mp4'), { sampleRate, expectedSeconds: new Promise((r) => setTimeout(() => r(3), 20)) });
-		const unknown = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate });
-		expect(late.samples).toEqual(known.samples);
-		expect(unknown.samples.length).toBeGreaterThan(3.4 * sampleRate);
+	it('reads the sound back whole and leaves no scratch file behind, after success or failure', async () => {
+		const pcm = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate });
+		// 0.5 s of leading silence plus the 3 s written (beforeAll), to within one AAC frame.
+		expect(Math.abs(pcm.samples.length / sampleRate - 3.5)).toBeLessThan(0.03);
+		await expect(decodeAudio(join(dir, 'missing.mp4'), { sampleRate })).rejects.toThrow();
+		// This process's own folder: other test files' align runs have folders of their own.
+		expect(scratchFolder()).toMatch(/lockstep-decode-/);
+		expect(readdirSync(scratchFolder())).toEqual([]);
+	});
+
+	it('sweeps away the scratch folders of processes that have ended, and only those', () => {
+		const parent = join(dir, 'shm');
+		// 999999999 is above Linux's largest process id (4194304, /proc/sys/kernel/pid_max), so no process has it.
+		for (const name of [`lockstep-decode-${process.pid}-alive`, 'lockstep-decode-999999999-gone', 'someone-else']) mkdirSync(join(parent, name), { recursive: true });
+		sweepAbandonedFolders(parent);
+		expect(readdirSync(parent).sort()).toEqual([`lockstep-decode-${process.pid}-alive`, 'someone-else']);
 	});
 
 	it('fails with one clear reason for a file that is not media', async () => {
