@@ -59,6 +59,23 @@ describe('correlationView', () => {
 		expect(view.values[index]).toBeCloseTo(inside.relativeHeight, 3);
 	});
 
+	it('looks for runner-ups within two minutes of the chosen lag in a long clip, and places them right', () => {
+		const b = onsets(60, 17);
+		// Constructed: B at 500 s in 15 minutes of A; a weaker copy at 470.6 s (30 s away, searched) and a
+		// stronger-than-it one at 800 s (300 s away, beyond the ±120 s searched, so never reported).
+		const a = aHolding(b, 900, [
+			{ lagSeconds: 500, weight: 1 },
+			{ lagSeconds: 470.6, weight: 0.5 },
+			{ lagSeconds: 800, weight: 0.8 }
+		]);
+		const view = correlationView(envelope(a), envelope(b), () => 500, 30)!;
+		expect(view.values[250]).toBe(1);
+		expect(view.startLagSeconds).toBeCloseTo(498, 9);
+		expect(view.runnersUp[0].lagSeconds).toBeCloseTo(470.6, 2);
+		expect(view.runnersUp.every((r) => Math.abs(r.lagSeconds - 500) <= 120 + 60)).toBe(true);
+		expect(view.runnersUp.some((r) => Math.abs(r.lagSeconds - 800) < 1)).toBe(false);
+	});
+
 	it('reports two equal copies as equally high (the phase transform of a symmetric pair is symmetric)', () => {
 		const b = onsets(60, 11);
 		const a = aHolding(b, 240, [

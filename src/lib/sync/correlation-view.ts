@@ -27,7 +27,7 @@ export interface CorrelationView {
 	stepSeconds: number;
 	/** The correlation over the chosen peak's height, so the chosen peak is at 1. */
 	values: number[];
-	/** The strongest other peaks anywhere in the searched lags, strongest first. */
+	/** The strongest other peaks within `searchSeconds` of the chosen lag, strongest first. */
 	runnersUp: RunnerUpPeak[];
 }
 
@@ -40,6 +40,8 @@ export interface CorrelationViewOptions {
 	runnersUp: number;
 	/** Runner-ups lie at least this far from the chosen lag and from each other: the main lobe of an onset envelope is about this wide. */
 	separationSeconds: number;
+	/** Lags searched for runner-ups: the chosen one ± this. */
+	searchSeconds: number;
 }
 
 export const defaultCorrelationViewOptions: CorrelationViewOptions = {
@@ -47,7 +49,8 @@ export const defaultCorrelationViewOptions: CorrelationViewOptions = {
 	halfWidthSeconds: 2,
 	maxPoints: 512,
 	runnersUp: 3,
-	separationSeconds: 0.1
+	separationSeconds: 0.1,
+	searchSeconds: 120
 };
 
 /**
@@ -71,21 +74,29 @@ export function correlationView(
 	const chosenLagSeconds = lagAt(segmentCenterSeconds);
 	if (!Number.isFinite(chosenLagSeconds)) return null;
 
-	const correlation = gccPhat(a.values, b.values.subarray(segmentStart, segmentStart + length), {
+	// Lag k: b[segmentStart + n] sits at a[n + k], so timeA − timeB = (k − segmentStart)/rate + a.start − b.start.
+	const lagOf = (k: number) => (k - segmentStart) / rate + a.startSeconds - b.startSeconds;
+	const indexOf = (lagSeconds: number) => Math.round((lagSeconds - a.startSeconds + b.startSeconds) * rate) + segmentStart;
+	const chosen = indexOf(chosenLagSeconds);
+	// Only A's stretch within `searchSeconds` of where the segment lands is correlated: the lags a
+	// person could confuse are there, and an hour-long A would otherwise need a million-point transform.
+	const search = Math.round(options.searchSeconds * rate);
+	const aFrom = Math.max(0, Math.min(a.values.length, chosen - search));
+	const aTo = Math.max(aFrom, Math.min(a.values.length, chosen + length + search));
+	if (aTo - aFrom < rate) return null;
+	const stretch = gccPhat(a.values.subarray(aFrom, aTo), b.values.subarray(segmentStart, segmentStart + length), {
 		sampleRate: rate,
 		band: { lowHz: 0.5, highHz: rate * 0.35 },
 		phatExponent: 1
 	});
-	// Lag k: b[segmentStart + n] sits at a[n + k], so timeA − timeB = (k − segmentStart)/rate + a.start − b.start.
-	const lagOf = (k: number) => (k - segmentStart) / rate + a.startSeconds - b.startSeconds;
-	const indexOf = (lagSeconds: number) => Math.round((lagSeconds - a.startSeconds + b.startSeconds) * rate) + segmentStart;
-	const minLag = -(length - 1);
-	const maxLag = a.values.length - 1;
-	const chosen = indexOf(chosenLagSeconds);
+	// The stretch's lag k′ is the whole of A's lag k′ + aFrom.
+	const correlation = { ...stretch, at: (k: number) => lagValue(stretch, k - aFrom) };
+	const minLag = aFrom - (length - 1);
+	const maxLag = aTo - 1;
 	if (chosen < minLag || chosen > maxLag) return null;
 	// The estimate's lag comes from the waveform, finer than one envelope step: its peak here is within a step or two.
 	let chosenHeight = Number.NEGATIVE_INFINITY;
-	for (let k = Math.max(minLag, chosen - 2); k <= Math.min(maxLag, chosen + 2); k++) chosenHeight = Math.max(chosenHeight, lagValue(correlation, k));
+	for (let k = Math.max(minLag, chosen - 2); k <= Math.min(maxLag, chosen + 2); k++) chosenHeight = Math.max(chosenHeight, correlation.at(k));
 	if (!(chosenHeight > 0)) return null;
 
 	const halfWidth = Math.round(options.halfWidthSeconds * rate);
@@ -96,14 +107,15 @@ export function correlationView(
 	for (let k = from; k <= to; k += step) {
 		let extreme = 0;
 		for (let j = k; j < Math.min(k + step, to + 1); j++) {
-			const v = lagValue(correlation, j);
+			const v = correlation.at(j);
 			if (Math.abs(v) > Math.abs(extreme)) extreme = v;
 		}
 		values.push(Math.round((extreme / chosenHeight) * 1e4) / 1e4);
 	}
 
 	const separation = Math.max(1, Math.round(options.separationSeconds * rate));
-	const runnersUp = topPeaks(correlation, minLag, maxLag, options.runnersUp + 2, separation)
+	const runnersUp = topPeaks(stretch, minLag - aFrom, maxLag - aFrom, options.runnersUp + 2, separation)
+		.map((peak) => ({ ...peak, lag: peak.lag + aFrom }))
 		.filter((peak) => Math.abs(peak.lag - chosen) >= separation)
 		.slice(0, options.runnersUp)
 		.map((peak) => ({ lagSeconds: lagOf(peak.lag), relativeHeight: Math.round((peak.value / chosenHeight) * 1e4) / 1e4 }));
