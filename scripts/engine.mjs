@@ -7,7 +7,6 @@
  * this bundles the entry and the worker once with esbuild, reuses the bundle while no source
  * it was built from has changed, and rebuilds (in ~0.2 s) when one has.
  */
-import { build } from 'esbuild';
 import { mkdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -49,6 +48,8 @@ async function bundle(entry, stampPath) {
 	// Under node_modules Node looks no further up for "type": the bundles are ES modules.
 	writeAtomically(join(outdir, 'package.json'), '{ "type": "module" }\n');
 	const builtAtMs = Date.now();
+	// Loaded only to rebuild: most runs find the bundle fresh and never need it.
+	const { build } = await import('esbuild');
 	const result = await build({
 		entryPoints: { [entry]: join(root, ENTRIES[entry]), ...Object.fromEntries(Object.entries(WORKER).map(([k, v]) => [k, join(root, v)])) },
 		bundle: true,
