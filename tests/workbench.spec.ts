@@ -45,6 +45,15 @@ async function openWorkbench(page: Page, id: string) {
 	await expect(page.getByTestId('lane')).toHaveCount(3);
 }
 
+/** Signs in as the editor and opens the demo session's workbench: the session's id and its timing before the test. */
+async function editorAtWorkbench(page: Page): Promise<{ id: string; before: Stored }> {
+	await signInAs(page, 'editor');
+	const id = await demoSessionId(page.request);
+	const before = await stored(page.request, id);
+	await openWorkbench(page, id);
+	return { id, before };
+}
+
 async function waitSaved(page: Page) {
 	await expect(page.getByTestId('save-state')).toHaveText('All changes saved');
 }
@@ -69,11 +78,8 @@ async function restore(request: APIRequestContext, id: string, before: Stored) {
 }
 
 test('nudging by keyboard moves the stored offset by exactly one sample, one millisecond and one frame; undo takes it back', async ({ page }) => {
-	await signInAs(page, 'editor');
-	const id = await demoSessionId(page.request);
-	const before = await stored(page.request, id);
+	const { id, before } = await editorAtWorkbench(page);
 	const mid = clipNamed(before, 'Rig mid');
-	await openWorkbench(page, id);
 	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
 
 	const steps: { key: string; seconds: number; what: string }[] = [
@@ -108,11 +114,8 @@ test('nudging by keyboard moves the stored offset by exactly one sample, one mil
 });
 
 test('at the deepest zoom a lane draws single samples, and a one-sample nudge moves them by one sample', async ({ page }) => {
-	await signInAs(page, 'editor');
-	const id = await demoSessionId(page.request);
-	const before = await stored(page.request, id);
+	const { id, before } = await editorAtWorkbench(page);
 	const mid = clipNamed(before, 'Rig mid');
-	await openWorkbench(page, id);
 	await page.getByRole('button', { name: 'Work on Rig mid' }).click();
 	// The second lap, where every camera has sound; zooming keeps the playhead in place.
 	const ruler = (await page.getByTestId('ruler').boundingBox())!;
@@ -153,10 +156,7 @@ test('at the deepest zoom a lane draws single samples, and a one-sample nudge mo
 });
 
 test('dragging the usable span handles stores the span shown', async ({ page }) => {
-	await signInAs(page, 'editor');
-	const id = await demoSessionId(page.request);
-	const before = await stored(page.request, id);
-	await openWorkbench(page, id);
+	const { id, before } = await editorAtWorkbench(page);
 
 	for (const [name, dx] of [['Usable span start', 90], ['Usable span end', -120]] as const) {
 		const handle = page.getByRole('slider', { name });
@@ -178,11 +178,8 @@ test('dragging the usable span handles stores the span shown', async ({ page }) 
 });
 
 test('reverting to a revision restores the timing it had', async ({ page }) => {
-	await signInAs(page, 'editor');
-	const id = await demoSessionId(page.request);
-	const before = await stored(page.request, id);
+	const { id, before } = await editorAtWorkbench(page);
 	const low = clipNamed(before, 'Rig low (housing)');
-	await openWorkbench(page, id);
 	await page.getByRole('button', { name: 'Work on Rig low (housing)' }).click();
 
 	await page.getByLabel('Drift (ppm)').fill('42.5');
