@@ -97,7 +97,8 @@ async function main() {
 		if (referenceIndex < 0) usage(`--reference ${args.reference} is not one of the files`);
 	}
 	try {
-		const report = await alignFiles(args.files, { referenceIndex });
+		// The correlation view is for the workbench's plot; this command prints no such thing.
+		const report = await alignFiles(args.files, { referenceIndex, pairOptions: { keepCorrelationView: false } });
 		process.stdout.write(args.json ? JSON.stringify(toJson(report, args.files, args.everySeconds)) + '\n' : toTable(report, args.files, args.everySeconds));
 		// For the benchmark: time inside this process and its peak memory (worker threads included).
 		if (process.env.LOCKSTEP_ALIGN_STATS) {

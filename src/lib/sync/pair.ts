@@ -34,6 +34,8 @@ export interface PairOptions {
 	drift: DriftFitOptions;
 	/** Clips quieter than this (dBFS RMS) are treated as muted. */
 	silenceDb: number;
+	/** Keep the correlation around the chosen lag for people to look at (the workbench); the command line has no use for it. */
+	keepCorrelationView: boolean;
 }
 
 export const defaultPairOptions: PairOptions = {
@@ -52,7 +54,8 @@ export const defaultPairOptions: PairOptions = {
 	maxWindows: 48,
 	maxDriftPpm: 200,
 	drift: defaultDriftFitOptions,
-	silenceDb: -90
+	silenceDb: -90,
+	keepCorrelationView: true
 };
 
 /** One refinement window: at B time `timeSeconds`, A is `lagSeconds` ahead (timeA − timeB). */
@@ -336,7 +339,8 @@ export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOp
 		const estimate = refine(a, b, candidate, options);
 		if (!best || estimate.confidence > best.confidence) best = estimate;
 	}
-	return withCorrelationView(a, b, best ?? unmatched('no consistent lag'), options);
+	const estimate = best ?? unmatched('no consistent lag');
+	return options.keepCorrelationView ? withCorrelationView(a, b, estimate, options) : estimate;
 }
 
 /** Adds the correlation around the lag the estimate settled on (the coarse lag when it found no match). */
