@@ -2,7 +2,6 @@ import { accessSync, constants, statSync } from 'node:fs';
 import { execFileSync } from 'node:child_process';
 import { createRequire } from 'node:module';
 import { delimiter, isAbsolute, join } from 'node:path';
-import ffmpeg from 'fluent-ffmpeg';
 
 /**
  * Where the ffmpeg and ffprobe binaries come from, resolved once per process:
@@ -64,8 +63,6 @@ export function mediaBinaries(): MediaBinaries {
 	const f = resolveOne('ffmpeg');
 	const p = resolveOne('ffprobe');
 	resolved = { ffmpegPath: f.path, ffprobePath: p.path, ffmpegSource: f.source, ffprobeSource: p.source };
-	ffmpeg.setFfmpegPath(resolved.ffmpegPath);
-	ffmpeg.setFfprobePath(resolved.ffprobePath);
 	return resolved;
 }
 
