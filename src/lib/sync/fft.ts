@@ -25,7 +25,31 @@ export function fftOfSize(size: number): FFT {
  */
 const inputScratch = new Map<number, Float64Array>();
 
-export function realSpectrum(signal: ArrayLike<number>, size: number, offset = 0, length = signal.length - offset): Float64Array {
+/**
+ * A named work array, kept between calls: a window's transforms need about a megabyte of arrays,
+ * and fresh memory is what costs here (a page fault for every 4 KB the first time it is written).
+ * What a caller gets is overwritten by the next call asking for the same name and length.
+ */
+const scratchArrays = new Map<string, Float64Array>();
+
+export function scratchArray(name: string, length: number): Float64Array {
+	const key = `${name}:${length}`;
+	let array = scratchArrays.get(key);
+	if (!array) {
+		if (scratchArrays.size > 32) scratchArrays.clear();
+		array = new Float64Array(length);
+		scratchArrays.set(key, array);
+	}
+	return array;
+}
+
+export function realSpectrum(
+	signal: ArrayLike<number>,
+	size: number,
+	offset = 0,
+	length = signal.length - offset,
+	out: Float64Array = new Float64Array(2 * size)
+): Float64Array {
 	// The zero-padded input is scratch: reused per size, so long correlations do not churn memory.
 	let input = inputScratch.get(size);
 	if (!input) {
@@ -36,7 +60,6 @@ export function realSpectrum(signal: ArrayLike<number>, size: number, offset = 0
 	const n = Math.min(length, size);
 	for (let i = 0; i < n; i++) input[i] = signal[offset + i];
 	input.fill(0, n);
-	const out = new Float64Array(2 * size);
 	fftOfSize(size).realTransform(out, input);
 	return out;
 }
@@ -65,9 +88,9 @@ function twiddles(size: number): Float64Array {
 	return table;
 }
 
-export function inverseRealSpectrum(halfSpectrum: Float64Array, size: number): Float64Array {
+export function inverseRealSpectrum(halfSpectrum: Float64Array, size: number, out: Float64Array = new Float64Array(size)): Float64Array {
 	const m = size / 2;
-	const packed = new Float64Array(2 * m);
+	const packed = scratchArray('inverse-packed', 2 * m);
 	const table = twiddles(size);
 	for (let k = 0; k < m; k++) {
 		const xr = halfSpectrum[2 * k];
@@ -85,7 +108,6 @@ export function inverseRealSpectrum(halfSpectrum: Float64Array, size: number): F
 		packed[2 * k] = er - oi;
 		packed[2 * k + 1] = ei + or;
 	}
-	const complexOut = new Float64Array(2 * m);
-	fftOfSize(m).inverseTransform(complexOut, packed);
-	return complexOut;
+	fftOfSize(m).inverseTransform(out, packed);
+	return out;
 }

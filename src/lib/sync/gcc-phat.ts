@@ -1,4 +1,4 @@
-import { nextPowerOfTwo, realSpectrum, inverseRealSpectrum } from './fft';
+import { nextPowerOfTwo, realSpectrum, inverseRealSpectrum, scratchArray } from './fft';
 
 /**
  * Which part of the spectrum may decide a delay. Microphones disagree below a few hundred
@@ -19,6 +19,12 @@ export interface GccPhatOptions {
 	band?: BandWeighting | null;
 	/** FFT size; defaults to the next power of two ≥ a.length + b.length − 1 (no circular wrap). */
 	size?: number;
+	/**
+	 * Build the result in work arrays kept between calls (see `scratchArray`): for a caller that
+	 * reads the correlation at once and lets it go, as the refinement does for every window.
+	 * The next such call overwrites it.
+	 */
+	scratch?: boolean;
 }
 
 /**
@@ -77,7 +83,7 @@ export function gccPhatFromSpectra(
 	const exponent = options.phatExponent ?? 1;
 	const half = size / 2;
 	const weights = bandWeights(size, options.sampleRate, options.band);
-	const weighted = new Float64Array(size + 2);
+	const weighted = options.scratch ? scratchArray('gcc-weighted', size + 2).fill(0) : new Float64Array(size + 2);
 	let maxPower = 0;
 	for (let k = 0; k <= half; k++) {
 		if (weights && weights[k] === 0) continue;
@@ -107,12 +113,14 @@ export function gccPhatFromSpectra(
 		weighted[2 * k] = re * w;
 		weighted[2 * k + 1] = im * w;
 	}
-	const values = inverseRealSpectrum(weighted, size);
+	const values = inverseRealSpectrum(weighted, size, options.scratch ? scratchArray('gcc-values', size) : undefined);
 	return { size, values, weightedSpectrum: weighted, peakScale: weightSum / size };
 }
 
 /** Generalised cross-correlation with phase transform (Knapp & Carter 1976), zero-padded, via fft.js. */
 export function gccPhat(a: ArrayLike<number>, b: ArrayLike<number>, options: GccPhatOptions): CrossCorrelation {
 	const size = options.size ?? nextPowerOfTwo(a.length + b.length - 1);
-	return gccPhatFromSpectra(realSpectrum(a, size), realSpectrum(b, size), size, options);
+	const spectrumA = realSpectrum(a, size, 0, a.length, options.scratch ? scratchArray('gcc-a', 2 * size) : undefined);
+	const spectrumB = realSpectrum(b, size, 0, b.length, options.scratch ? scratchArray('gcc-b', 2 * size) : undefined);
+	return gccPhatFromSpectra(spectrumA, spectrumB, size, options);
 }

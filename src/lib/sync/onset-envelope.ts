@@ -35,31 +35,76 @@ export function highPassBiquad(cutoffHz: number, sampleRate: number): Biquad {
 	};
 }
 
+export interface OnsetEnvelopeOptions {
+	rate?: number;
+	highPassHz?: number;
+	fullScale?: number;
+}
+
 export function onsetEnvelope(
 	samples: Float32Array | Int16Array,
 	sampleRate: number,
 	startSeconds: number,
-	options: { rate?: number; highPassHz?: number; fullScale?: number } = {}
+	options: OnsetEnvelopeOptions = {}
 ): OnsetEnvelope {
-	const fullScale = options.fullScale ?? 1;
-	const hop = Math.max(1, Math.round(sampleRate / (options.rate ?? 250)));
-	const rate = sampleRate / hop;
-	const filter = highPassBiquad(options.highPassHz ?? 300, sampleRate);
-	const count = Math.floor(samples.length / hop);
-	const values = new Float32Array(count);
-	// Two cascaded sections (4th order) so rumble well below the cut-off cannot dominate the energy.
-	let x1 = 0, x2 = 0, y1 = 0, y2 = 0, z1 = 0, z2 = 0;
-	const { b0, b1, b2, a1, a2 } = filter;
-	let previousLog = 0;
+	const builder = new OnsetEnvelopeBuilder(sampleRate, startSeconds, samples.length, options);
+	builder.push(samples);
+	return builder.finish();
+}
+
+/**
+ * The same envelope fed a stretch at a time, so a long clip can be read from disk in passing
+ * instead of held in memory; the filter state carries over, so the result does not depend on
+ * how the sound was cut.
+ */
+export class OnsetEnvelopeBuilder {
+	private readonly hop: number;
+	private readonly rate: number;
+	private readonly values: Float32Array;
+	private readonly filter: Biquad;
 	// The log's floor, in the samples' own units: −100 dBFS of energy.
-	const floor = 1e-10 * fullScale * fullScale;
-	let index = 0;
-	let squares = 0;
-	for (let frame = 0; frame < count; frame++) {
-		let energy = 0;
-		for (let i = 0; i < hop; i++, index++) {
+	private readonly floor: number;
+	private readonly fullScale: number;
+	private readonly startSeconds: number;
+	private x1 = 0;
+	private x2 = 0;
+	private y1 = 0;
+	private y2 = 0;
+	private z1 = 0;
+	private z2 = 0;
+	private frame = 0;
+	private inHop = 0;
+	private energy = 0;
+	private previousLog = 0;
+	private squares = 0;
+	private seen = 0;
+
+	constructor(
+		sampleRate: number,
+		startSeconds: number,
+		/** Samples that will be pushed in all. */
+		readonly length: number,
+		options: OnsetEnvelopeOptions = {}
+	) {
+		this.fullScale = options.fullScale ?? 1;
+		this.hop = Math.max(1, Math.round(sampleRate / (options.rate ?? 250)));
+		this.rate = sampleRate / this.hop;
+		this.filter = highPassBiquad(options.highPassHz ?? 300, sampleRate);
+		this.values = new Float32Array(Math.floor(length / this.hop));
+		this.floor = 1e-10 * this.fullScale * this.fullScale;
+		this.startSeconds = startSeconds + this.hop / sampleRate / 2;
+	}
+
+	push(samples: Float32Array | Int16Array) {
+		const { b0, b1, b2, a1, a2 } = this.filter;
+		const { hop, values, floor } = this;
+		const count = values.length;
+		// Two cascaded sections (4th order) so rumble well below the cut-off cannot dominate the energy.
+		let { x1, x2, y1, y2, z1, z2, frame, inHop, energy, previousLog, squares } = this;
+		for (let index = 0; index < samples.length; index++) {
 			const x = samples[index];
 			squares += x * x;
+			if (frame >= count) continue; // the tail past the last whole hop counts towards the level only
 			const y = b0 * x + b1 * x1 + b2 * x2 - a1 * y1 - a2 * y2;
 			x2 = x1;
 			x1 = x;
@@ -69,11 +114,25 @@ export function onsetEnvelope(
 			z2 = z1;
 			z1 = z;
 			energy += z * z;
+			if (++inHop === hop) {
+				const logEnergy = Math.log(energy / hop + floor);
+				values[frame] = frame === 0 ? 0 : Math.max(logEnergy - previousLog, 0);
+				previousLog = logEnergy;
+				frame++;
+				inHop = 0;
+				energy = 0;
+			}
 		}
-		const logEnergy = Math.log(energy / hop + floor);
-		values[frame] = frame === 0 ? 0 : Math.max(logEnergy - previousLog, 0);
-		previousLog = logEnergy;
+		Object.assign(this, { x1, x2, y1, y2, z1, z2, frame, inHop, energy, previousLog, squares });
+		this.seen += samples.length;
 	}
-	for (; index < samples.length; index++) squares += samples[index] * samples[index];
-	return { values, rate, startSeconds: startSeconds + hop / sampleRate / 2, rms: Math.sqrt(squares / Math.max(samples.length, 1)) / fullScale };
+
+	finish(): OnsetEnvelope {
+		return {
+			values: this.values,
+			rate: this.rate,
+			startSeconds: this.startSeconds,
+			rms: Math.sqrt(this.squares / Math.max(this.seen, 1)) / this.fullScale
+		};
+	}
 }

@@ -1,14 +1,14 @@
 import { correlationView, defaultCorrelationViewOptions, type CorrelationView } from './correlation-view';
 import { fitDrift, defaultDriftFitOptions, type DriftFitOptions } from './drift-fit';
-import { nextPowerOfTwo, realSpectrum } from './fft';
+import { nextPowerOfTwo, realSpectrum, scratchArray } from './fft';
 import { gccPhat, gccPhatFromSpectra, type BandWeighting } from './gcc-phat';
 import { onsetEnvelope, type OnsetEnvelope } from './onset-envelope';
 import { peakToSidelobeRatio, refinePeakLag, sidelobeStatistics, topPeaks } from './peak';
-import type { PairRelation, PcmTrack } from './types';
+import { pcmSource, type PairRelation, type PcmSource, type PcmTrack } from './types';
 
 /** A clip ready for pairing: its PCM plus the low-rate envelope the coarse search uses. */
 export interface AnalysisTrack {
-	pcm: PcmTrack;
+	pcm: PcmSource;
 	envelope: OnsetEnvelope;
 	/** RMS level of the whole clip in dBFS; −Infinity for digital silence. */
 	levelDb: number;
@@ -96,21 +96,26 @@ export interface PairEstimate extends PairRelation {
 	correlation?: CorrelationView | null;
 }
 
-export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
-	const envelope = onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, {
-		rate: options.envelopeRate,
-		highPassHz: options.band.lowHz,
-		fullScale: pcm.fullScale
-	});
-	return {
-		pcm,
-		envelope,
-		levelDb: envelope.rms > 0 ? 20 * Math.log10(envelope.rms) : Number.NEGATIVE_INFINITY
-	};
+/** The envelope options pairing expects, for a caller that builds the envelope itself (a stretch at a time, say). */
+export function envelopeOptions(options: Pick<PairOptions, 'envelopeRate' | 'band'>, fullScale: number) {
+	return { rate: options.envelopeRate, highPassHz: options.band.lowHz, fullScale };
 }
 
-function trackEnd(track: PcmTrack): number {
-	return track.startSeconds + track.samples.length / track.sampleRate;
+export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
+	const envelope = onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, envelopeOptions(options, pcm.fullScale ?? 1));
+	return analysisTrack(pcmSource(pcm), envelope);
+}
+
+export function analysisTrack(pcm: PcmSource, envelope: OnsetEnvelope): AnalysisTrack {
+	return { pcm, envelope, levelDb: levelDbOf(envelope) };
+}
+
+export function levelDbOf(envelope: OnsetEnvelope): number {
+	return envelope.rms > 0 ? 20 * Math.log10(envelope.rms) : Number.NEGATIVE_INFINITY;
+}
+
+function trackEnd(track: PcmSource): number {
+	return track.startSeconds + track.length / track.sampleRate;
 }
 
 interface CoarseCandidate {
@@ -153,7 +158,8 @@ function sharpenLag(long: OnsetEnvelope, short: OnsetEnvelope, shortCenterSecond
 	const correlation = gccPhat(long.values.subarray(from, to), short.values.subarray(shortStart, shortEnd), {
 		sampleRate: rate,
 		band: { lowHz: 0.5, highHz: rate * 0.35 },
-		phatExponent: 1
+		phatExponent: 1,
+		scratch: true
 	});
 	const [peak] = topPeaks(correlation, 0, to - from - (shortEnd - shortStart), 1, 1);
 	if (!peak) return longMinusShort;
@@ -180,10 +186,11 @@ function coarseSearch(a: AnalysisTrack, b: AnalysisTrack, options: PairOptions):
 	const perSegment: CoarseCandidate[][] = [];
 	for (let s = 0; s < segmentCount; s++) {
 		const start = segmentCount === 1 ? 0 : Math.round((s * (short.values.length - segmentLength)) / (segmentCount - 1));
-		const correlation = gccPhatFromSpectra(longSpectrum, realSpectrum(short.values, size, start, segmentLength), size, {
+		const correlation = gccPhatFromSpectra(longSpectrum, realSpectrum(short.values, size, start, segmentLength, scratchArray('coarse-segment', 2 * size)), size, {
 			sampleRate: rate,
 			band: envelopeBand,
-			phatExponent: 1
+			phatExponent: 1,
+			scratch: true
 		});
 		const minLag = -(segmentLength - 1);
 		const maxLag = long.values.length - 1;
@@ -272,8 +279,8 @@ function lagPredictor(support: CoarseCandidate[], envelopeRate: number, maxDrift
 
 /** Waveform GCC-PHAT in one window of B against the stretch of A where it is predicted to be. */
 function measureWindow(
-	a: PcmTrack,
-	b: PcmTrack,
+	a: PcmSource,
+	b: PcmSource,
 	centerSeconds: number,
 	predicted: { lagSeconds: number; marginSeconds: number },
 	options: PairOptions
@@ -284,14 +291,15 @@ function measureWindow(
 	const bStart = Math.round((centerSeconds - options.windowSeconds / 2 - b.startSeconds) * rate);
 	const aStart = Math.round((centerSeconds - options.windowSeconds / 2 + predicted.lagSeconds - a.startSeconds) * rate) - marginSamples;
 	const aLength = windowLength + 2 * marginSamples;
-	if (bStart < 0 || bStart + windowLength > b.samples.length || aStart < 0 || aStart + aLength > a.samples.length) return null;
+	if (bStart < 0 || bStart + windowLength > b.length || aStart < 0 || aStart + aLength > a.length) return null;
 	// Circular correlation is enough: only lags 0..2·margin are read, and A's stretch covers them
 	// without wrapping, so the transform need only hold A's stretch, not both lengths added.
-	const correlation = gccPhat(a.samples.subarray(aStart, aStart + aLength), b.samples.subarray(bStart, bStart + windowLength), {
+	const correlation = gccPhat(a.read(aStart, aLength), b.read(bStart, windowLength), {
 		size: nextPowerOfTwo(aLength),
 		sampleRate: rate,
 		band: options.band,
-		phatExponent: options.phatExponent
+		phatExponent: options.phatExponent,
+		scratch: true
 	});
 	const [peak] = topPeaks(correlation, 0, 2 * marginSamples, 1, 1);
 	if (!peak) return null;
@@ -345,7 +353,7 @@ export function estimatePair(a: AnalysisTrack, b: AnalysisTrack, options: PairOp
 
 /** Adds the correlation around the lag the estimate settled on (the coarse lag when it found no match). */
 function withCorrelationView(a: AnalysisTrack, b: AnalysisTrack, estimate: PairEstimate, options: PairOptions): PairEstimate {
-	const bMiddle = b.pcm.startSeconds + b.pcm.samples.length / b.pcm.sampleRate / 2;
+	const bMiddle = b.pcm.startSeconds + b.pcm.length / b.pcm.sampleRate / 2;
 	const coarseLag = estimate.coarse?.lagSeconds ?? Number.NaN;
 	const lagAt = estimate.matched ? (t: number) => estimate.offsetSeconds + t * estimate.driftPpm * 1e-6 : () => coarseLag;
 	const center = estimate.matched ? estimate.referenceTimeSeconds : bMiddle;
@@ -356,7 +364,7 @@ function withCorrelationView(a: AnalysisTrack, b: AnalysisTrack, estimate: PairE
 /** Waveform refinement along the overlap around one coarse lag, then the robust drift fit. */
 function refine(a: AnalysisTrack, b: AnalysisTrack, coarse: { match: CoarseMatch; support: CoarseCandidate[] }, options: PairOptions): PairEstimate {
 	const predict = lagPredictor(coarse.support, a.envelope.rate, options.maxDriftPpm);
-	const center = predict(b.pcm.startSeconds + b.pcm.samples.length / b.pcm.sampleRate / 2).lagSeconds;
+	const center = predict(b.pcm.startSeconds + b.pcm.length / b.pcm.sampleRate / 2).lagSeconds;
 	const overlapStart = Math.max(b.pcm.startSeconds, a.pcm.startSeconds - center);
 	const overlapEnd = Math.min(trackEnd(b.pcm), trackEnd(a.pcm) - center);
 	const overlapSeconds = Math.max(0, overlapEnd - overlapStart);

@@ -13,6 +13,33 @@ export interface PcmTrack {
 }
 
 /**
+ * Mono PCM read a stretch at a time, wherever it is kept (an array here, a scratch file in the
+ * server): sample k is at clip time startSeconds + k / sampleRate. An hour of sound never has to
+ * sit in memory whole; the analysis reads an envelope's worth in passing and then only windows.
+ */
+export interface PcmSource {
+	readonly sampleRate: number;
+	readonly startSeconds: number;
+	/** Number of samples. */
+	readonly length: number;
+	/** What value a full-scale sample has. */
+	readonly fullScale: number;
+	/** Samples start … start + count − 1, all inside 0 … length. */
+	read(start: number, count: number): Float32Array | Int16Array;
+}
+
+/** A track in memory as a source (views, no copies). */
+export function pcmSource(track: PcmTrack): PcmSource {
+	return {
+		sampleRate: track.sampleRate,
+		startSeconds: track.startSeconds,
+		length: track.samples.length,
+		fullScale: track.fullScale ?? 1,
+		read: (start, count) => track.samples.subarray(start, start + count)
+	};
+}
+
+/**
  * How two clips relate, in the session formula's shape with clip A as the reference:
  * timeA = offsetSeconds + timeB × (1 + driftPpm × 1e-6).
  */

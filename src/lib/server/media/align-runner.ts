@@ -4,12 +4,11 @@ import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, frameSpanSeconds, type FrameTiming } from '../../sync/frames';
-import { defaultPairOptions, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
+import { defaultPairOptions, type PairEstimate, type PairOptions } from '../../sync/pair';
 import { solveSession, type SessionSolution } from '../../sync/solve';
-import type { PcmTrack } from '../../sync/types';
 import type { Rational } from '../../sync/rational';
-import { runAlignTask, type AlignTask, type AlignTaskResult } from './align-worker';
-import { decodeAudio } from './decode';
+import { runAlignTask, type AlignTask, type AlignTaskResult, type PreparedSound } from './align-worker';
+import { decodeSounds, releaseSound, type DecodedSound } from './decode';
 import { MediaReadError, probeMedia, type MediaProbe } from './probe';
 
 export interface AlignOptions {
@@ -86,6 +85,9 @@ export function frameTimingOf(probe: MediaProbe): FrameTiming | null {
 	return { kind: 'constant', frameRate, firstFrameSeconds: video.startSeconds, frameCount };
 }
 
+// Until the moov reader lands.
+const readMp4Facts = async (_path: string): Promise<MediaProbe | null> => null;
+
 async function mapLimited<T, R>(items: T[], limit: number, work: (item: T, index: number) => Promise<R>): Promise<PromiseSettledResult<R>[]> {
 	const results: PromiseSettledResult<R>[] = new Array(items.length);
 	let next = 0;
@@ -126,8 +128,27 @@ async function workerFile(): Promise<{ url: string; plainJavaScript: boolean; cl
 }
 
 /**
- * Aligns clips by their sound: probe, decode each clip once (in parallel), estimate every pair in
- * worker threads, then solve all offsets and drifts together.
+ * Which clips share an ffmpeg run. Its start-up (about 0.12 CPU-s here, loading two hundred
+ * libraries) costs more than decoding a minute and a half of sound, so short clips are packed
+ * together; a long clip gets a run of its own, so its envelope can be read while others decode.
+ * A clip of unknown length decodes alone. Longest work first.
+ */
+export function decodeGroups(durations: (number | null)[], sharedSeconds = 300): number[][] {
+	const order = durations.map((duration, index) => ({ duration, index })).sort((x, y) => (y.duration ?? Infinity) - (x.duration ?? Infinity));
+	const groups: { indices: number[]; seconds: number }[] = [];
+	for (const { duration, index } of order) {
+		const shared = duration !== null && duration <= sharedSeconds / 2 ? groups.find((g) => g.seconds + duration <= sharedSeconds && g.seconds <= sharedSeconds / 2) : undefined;
+		if (shared) {
+			shared.indices.push(index);
+			shared.seconds += duration!;
+		} else groups.push({ indices: [index], seconds: duration ?? Infinity });
+	}
+	return groups.map((g) => g.indices.sort((x, y) => x - y));
+}
+
+/**
+ * Aligns clips by their sound: read each clip's facts, decode each clip once (short ones several
+ * to an ffmpeg run, runs in parallel), estimate every pair, then solve all offsets and drifts together.
  */
 export async function alignFiles(paths: string[], options: AlignOptions = {}): Promise<AlignReport> {
 	const concurrency = Math.max(1, options.concurrency ?? availableParallelism());
@@ -135,41 +156,59 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const sampleRate = options.analysisSampleRate ?? 8000;
 	const progress = options.onProgress ?? (() => {});
 
-	// Probe every file and start decoding at once: a decode does not need its probe, and waiting
-	// for probes first idles the cores for a tenth of a second.
 	const stop = new AbortController();
 	const stopDecodes = () => stop.abort();
 	options.signal?.addEventListener('abort', stopDecodes, { once: true });
-	const probing = paths.map((path) => probeMedia(path));
+	// MP4 and MOV files describe themselves in their moov box, read here in milliseconds; anything
+	// else (or anything unusual) is asked of ffprobe, which runs beside the decodes.
+	const quick = await Promise.all(paths.map((path) => readMp4Facts(path).catch(() => null)));
+	const probing = paths.map((path, i) => (quick[i] ? Promise.resolve(quick[i]) : probeMedia(path)));
 	for (const p of probing) p.catch(stopDecodes);
 	const ready = paths.map(() => {
-		let settle: (track: Promise<AnalysisTrack | null>) => void = () => {};
-		const promise = new Promise<AnalysisTrack | null>((resolve) => (settle = resolve));
+		let settle: (prepared: Promise<PreparedSound | null>) => void = () => {};
+		const promise = new Promise<PreparedSound | null>((resolve) => (settle = resolve));
 		promise.catch(() => {}); // a failed decode is reported from `decodes` below
 		return { promise, settle };
 	});
+	const sounds: DecodedSound[] = [];
 	let decoded = 0;
 	// How a decoded clip is prepared is known once the probes tell how much media there is (threads or not).
-	let engineKnown: (prepare: (pcm: PcmTrack) => Promise<AnalysisTrack>) => void = () => {};
-	const engine = new Promise<(pcm: PcmTrack) => Promise<AnalysisTrack>>((resolve) => (engineKnown = resolve));
-	const decodes = mapLimited(paths, concurrency, async (path, index) => {
-		const probe = probing[index];
-		try {
-			const pcm = await decodeAudio(path, { sampleRate, signal: stop.signal });
-			const prepare = await engine;
-			ready[index].settle(prepare(pcm));
-		} catch (error) {
-			// A clip without sound is aligned by nothing, not an error: its probe says so.
-			const probed = await probe.catch(() => null);
-			if (probed && !probed.audio) {
-				ready[index].settle(Promise.resolve(null));
-				return;
-			}
-			ready[index].settle(Promise.reject(error));
-			throw error;
-		} finally {
-			progress({ stage: 'decode', done: ++decoded, total: paths.length });
-		}
+	let engineKnown: (prepare: (sound: DecodedSound) => Promise<PreparedSound>) => void = () => {};
+	const engine = new Promise<(sound: DecodedSound) => Promise<PreparedSound>>((resolve) => (engineKnown = resolve));
+	// A clip its facts show to have no sound is not decoded: nothing aligns it.
+	const silent = quick.map((facts) => facts !== null && !facts.audio);
+	silent.forEach((isSilent, i) => isSilent && ready[i].settle(Promise.resolve(null)));
+	const toDecode = paths.map((_, i) => i).filter((i) => !silent[i]);
+	const groups = decodeGroups(toDecode.map((i) => quick[i]?.durationSeconds ?? null)).map((g) => g.map((k) => toDecode[k]));
+	const decodes = mapLimited(groups, concurrency, async (group) => {
+		const results = await decodeSounds(
+			group.map((i) => paths[i]),
+			{ sampleRate, signal: stop.signal }
+		);
+		const prepare = await engine;
+		return Promise.allSettled(
+			results.map(async (result, k) => {
+				const index = group[k];
+				try {
+					if (result.status === 'rejected') throw result.reason;
+					sounds.push(result.value);
+					const prepared = prepare(result.value);
+					ready[index].settle(prepared);
+					await prepared;
+				} catch (error) {
+					// A clip without sound is aligned by nothing, not an error: its probe says so.
+					const probed = await probing[index].catch(() => null);
+					if (probed && !probed.audio) {
+						ready[index].settle(Promise.resolve(null));
+						return;
+					}
+					ready[index].settle(Promise.reject(error));
+					throw error;
+				} finally {
+					progress({ stage: 'decode', done: ++decoded, total: paths.length });
+				}
+			})
+		);
 	});
 
 	const probed = await Promise.allSettled(probing);
@@ -179,6 +218,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	if (failures.length) {
 		engineKnown(() => Promise.reject(new MediaReadErrors(failures)));
 		await decodes;
+		sounds.forEach(releaseSound);
 		options.signal?.removeEventListener('abort', stopDecodes);
 		throw new MediaReadErrors(failures);
 	}
@@ -200,12 +240,12 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			})
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
-	engineKnown(async (pcm: PcmTrack): Promise<AnalysisTrack> => {
-		const result = await runTask({ kind: 'prepare', pcm, options: pairOptions });
+	engineKnown(async (sound: DecodedSound): Promise<PreparedSound> => {
+		const result = await runTask({ kind: 'prepare', sound, options: pairOptions });
 		if (result.kind !== 'prepare') throw new Error('align worker answered a prepare task with a pair');
-		return result.track;
+		return result.prepared;
 	});
-	const estimate = async (a: AnalysisTrack, b: AnalysisTrack): Promise<PairEstimate> => {
+	const estimate = async (a: PreparedSound, b: PreparedSound): Promise<PairEstimate> => {
 		const result = await runTask({ kind: 'pair', a, b, options: pairOptions });
 		if (result.kind !== 'pair') throw new Error('align worker answered a pair task with a track');
 		return result.estimate;
@@ -222,7 +262,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 				return result ? { a, b, estimate: result } : null;
 			})
 		);
-		const decodeResults = await decodes;
+		const decodeResults = (await decodes).flatMap((group) => (group.status === 'fulfilled' ? group.value : [group]));
 		const decodeFailures = decodeResults.flatMap((r) =>
 			r.status === 'rejected' ? [r.reason instanceof MediaReadError ? r.reason : new MediaReadError('?', String(r.reason))] : []
 		);
@@ -265,6 +305,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		options.signal?.removeEventListener('abort', stopDecodes);
 		await pool?.destroy();
 		worker?.cleanup();
+		sounds.forEach(releaseSound);
 	}
 }
 

@@ -1,17 +1,36 @@
-import { estimatePair, prepareTrack, type AnalysisTrack, type PairEstimate, type PairOptions } from '../../sync/pair';
-import type { PcmTrack } from '../../sync/types';
+import type { OnsetEnvelope } from '../../sync/onset-envelope';
+import { estimatePair, levelDbOf, type PairEstimate, type PairOptions } from '../../sync/pair';
+import type { DecodedSound } from './decode';
+import { soundEnvelope, soundSource } from './scratch-sound';
 
-/** Work the alignment hands to a worker thread; PCM lives in shared memory, so nothing large is copied. */
+/** A decoded clip with its envelope: all a pair needs, as plain data a worker thread can be sent. */
+export interface PreparedSound {
+	sound: DecodedSound;
+	envelope: OnsetEnvelope;
+	levelDb: number;
+}
+
+/** Work the alignment hands to a worker thread; the sound stays in its scratch file, so nothing large is copied. */
 export type AlignTask =
-	| { kind: 'prepare'; pcm: PcmTrack; options: PairOptions }
-	| { kind: 'pair'; a: AnalysisTrack; b: AnalysisTrack; options: PairOptions };
+	| { kind: 'prepare'; sound: DecodedSound; options: PairOptions }
+	| { kind: 'pair'; a: PreparedSound; b: PreparedSound; options: PairOptions };
 
-export type AlignTaskResult = { kind: 'prepare'; track: AnalysisTrack } | { kind: 'pair'; estimate: PairEstimate };
+export type AlignTaskResult = { kind: 'prepare'; prepared: PreparedSound } | { kind: 'pair'; estimate: PairEstimate };
 
 export function runAlignTask(task: AlignTask): AlignTaskResult {
-	return task.kind === 'prepare'
-		? { kind: 'prepare', track: prepareTrack(task.pcm, task.options) }
-		: { kind: 'pair', estimate: estimatePair(task.a, task.b, task.options) };
+	if (task.kind === 'prepare') {
+		const envelope = soundEnvelope(task.sound, task.options);
+		return { kind: 'prepare', prepared: { sound: task.sound, envelope, levelDb: levelDbOf(envelope) } };
+	}
+	const a = soundSource(task.a.sound);
+	const b = soundSource(task.b.sound);
+	try {
+		const estimate = estimatePair({ ...task.a, pcm: a }, { ...task.b, pcm: b }, task.options);
+		return { kind: 'pair', estimate };
+	} finally {
+		a.close();
+		b.close();
+	}
 }
 
 export default runAlignTask;

@@ -1,10 +1,10 @@
 import { execFileSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mediaBinaries } from './binaries';
-import { decodeAudio, scratchFolder, sweepAbandonedFolders } from './decode';
+import { decodeAudio, decodeSounds, firstSampleTimes, releaseSound, scratchFolder, sweepAbandonedFolders } from './decode';
 import { probeMedia } from './probe';
 
 let dir = '';
@@ -49,9 +49,10 @@ afterAll(() => {
 });
 
 describe('decodeAudio', () => {
-	it('puts sample k at clip time k / rate, the AAC priming removed', async () => {
+	it('puts sample k at clip time startSeconds + k / rate, the AAC priming removed', async () => {
 		const pcm = await decodeAudio(join(dir, 'click.mp4'), { sampleRate });
 		expect(pcm.sampleRate).toBe(sampleRate);
+		expect(pcm.startSeconds).toBe(0);
 		// The click was written at 1.000–1.002 s (aevalsrc above); ISO/IEC 14496-12 edit lists remove the encoder delay.
 		expect(Math.abs(clickSeconds(pcm.samples) - 1.001)).toBeLessThan(1.5e-3);
 	});
@@ -60,10 +61,41 @@ describe('decodeAudio', () => {
 		const probe = await probeMedia(join(dir, 'late-audio.mp4'));
 		expect(probe.audio?.startSeconds).toBeGreaterThan(0.4);
 		const pcm = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate });
+		// The first decoded sample's timestamp is the stream's start as ffprobe reports it (the reference here).
+		expect(pcm.startSeconds).toBeCloseTo(probe.audio!.startSeconds, 6);
 		// Shifted by the 0.5 s timestamp offset (STACK.md: the decoded samples' timestamps place them).
-		expect(Math.abs(clickSeconds(pcm.samples) - 1.501)).toBeLessThan(1.5e-3);
-		// Leading silence fills the gap before the audio's first sample.
-		expect(Math.max(...pcm.samples.subarray(0, Math.round(0.4 * sampleRate)).map(Math.abs))).toBe(0);
+		expect(Math.abs(pcm.startSeconds + clickSeconds(pcm.samples) - 1.501)).toBeLessThan(1.5e-3);
+	});
+
+	it('reads where each clip starts from the filter log, in the filter\'s time base of 1/rate', () => {
+		const log = [
+			'[ashowinfo@first0 @ 0x55ae5bb5f080] n:0 pts:3792 pts_time:0.079 pos:50347 fmt:fltp channels:1 chlayout:mono rate:48000 nb_samples:1 checksum:06AE0243',
+			'[ashowinfo@first1 @ 0x55ae5bb61d80] n:0 pts:-1024 pts_time:-0.0232200 pos:104265 fmt:fltp channels:2 chlayout:stereo rate:44100 nb_samples:1 checksum:05F00212'
+		].join('\n');
+		expect([...firstSampleTimes(log)]).toEqual([
+			[0, 3792 / 48000],
+			[1, -1024 / 44100]
+		]);
+	});
+
+	it('decodes several clips in one run exactly as each alone, and blames a bad one by name', async () => {
+		const paths = [join(dir, 'click.mp4'), join(dir, 'late-audio.mp4')];
+		const together = await decodeSounds(paths, { sampleRate });
+		const alone = await Promise.all(paths.map((path) => decodeAudio(path, { sampleRate })));
+		for (const [i, result] of together.entries()) {
+			expect(result.status).toBe('fulfilled');
+			if (result.status !== 'fulfilled') continue;
+			const pcm = readFileSync(result.value.scratchPath);
+			expect(result.value.startSeconds).toBe(alone[i].startSeconds);
+			expect(Buffer.compare(pcm, Buffer.from(alone[i].samples.buffer))).toBe(0);
+			releaseSound(result.value);
+		}
+		const withBad = await decodeSounds([paths[0], join(dir, 'missing.mp4')], { sampleRate });
+		expect(withBad[0].status).toBe('fulfilled');
+		expect(withBad[1].status).toBe('rejected');
+		if (withBad[1].status === 'rejected') expect(String(withBad[1].reason)).toMatch(/missing\.mp4/);
+		if (withBad[0].status === 'fulfilled') releaseSound(withBad[0].value);
+		expect(readdirSync(scratchFolder())).toEqual([]);
 	});
 
 	it('places the sound at the same samples with soxr and with ffmpeg\'s own resampler', async () => {
@@ -71,18 +103,21 @@ describe('decodeAudio', () => {
 			Promise.all((['soxr', 'swr'] as const).map((resampler) => decodeAudio(path, { sampleRate, resampler })));
 		const [soxr, swr] = await decodeBoth(join(dir, 'click.mp4'));
 		expect(soxr.samples.length).toBe(swr.samples.length);
+		expect(soxr.startSeconds).toBe(swr.startSeconds);
 		expect(Math.abs(clickSeconds(soxr.samples) - clickSeconds(swr.samples))).toBeLessThanOrEqual(1 / sampleRate);
 		// A phone clip whose audio starts 100 ms late with its AAC priming in view (fixtures/vfr-phone/truth.json):
-		// the padding must not pick up the resampler's filter delay (it did, by 399 samples, when soxr padded).
+		// the start must not pick up the resampler's filter delay (it did, by 399 samples, when soxr padded).
 		const [soxrPhone, swrPhone] = await decodeBoth('fixtures/vfr-phone/phone.mp4');
 		expect(soxrPhone.samples.length).toBe(swrPhone.samples.length);
+		expect(soxrPhone.startSeconds).toBeCloseTo(0.079, 9);
 		expect(bestShift(swrPhone.samples, soxrPhone.samples, 5 * sampleRate, sampleRate, 800)).toBe(0);
 	});
 
 	it('reads the sound back whole and leaves no scratch file behind, after success or failure', async () => {
 		const pcm = await decodeAudio(join(dir, 'late-audio.mp4'), { sampleRate });
-		// 0.5 s of leading silence plus the 3 s written (beforeAll), to within one AAC frame.
-		expect(Math.abs(pcm.samples.length / sampleRate - 3.5)).toBeLessThan(0.03);
+		// The 3 s written (beforeAll), to within one AAC frame, starting 0.5 s in.
+		expect(Math.abs(pcm.samples.length / sampleRate - 3)).toBeLessThan(0.03);
+		expect(Math.abs(pcm.startSeconds + pcm.samples.length / sampleRate - 3.5)).toBeLessThan(0.03);
 		await expect(decodeAudio(join(dir, 'missing.mp4'), { sampleRate })).rejects.toThrow();
 		// This process's own folder: other test files' align runs have folders of their own.
 		expect(scratchFolder()).toMatch(/lockstep-decode-/);

@@ -1,5 +1,5 @@
 import { spawn } from 'node:child_process';
-import { accessSync, closeSync, constants, fstatSync, mkdtempSync, openSync, readdirSync, readSync, rmSync, unlinkSync } from 'node:fs';
+import { accessSync, closeSync, constants, fstatSync, mkdtempSync, openSync, readdirSync, readSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { PcmTrack } from '../../sync/types';
@@ -18,23 +18,56 @@ export type Resampler = 'soxr' | 'swr';
 /** soxr unless this ffmpeg turned out to be built without it. */
 let preferredResampler: Resampler = 'soxr';
 
-/** ffmpeg arguments that decode the first audio stream to mono 16-bit PCM at `sampleRate`, placed on the container's timeline. */
-export function decodeArguments(path: string, sampleRate: number, resampler: Resampler, outputPath: string): string[] {
+/** One clip's sound decoded into a scratch file: sample k is at clip time startSeconds + k / sampleRate. */
+export interface DecodedSound {
+	/** The clip it came from. */
+	source: string;
+	/** Mono 16-bit little-endian PCM, no header. */
+	scratchPath: string;
+	sampleRate: number;
+	startSeconds: number;
+	/** Samples in the file. */
+	length: number;
+	fullScale: number;
+}
+
+/**
+ * ffmpeg arguments that decode the first audio stream of each input to mono 16-bit PCM at
+ * `sampleRate`, one scratch file per input, all in one process: ffmpeg's start-up (loading its
+ * two hundred libraries) costs more than decoding a minute of sound, so short clips share it.
+ */
+export function decodeArguments(paths: string[], sampleRate: number, resampler: Resampler, outputPaths: string[]): string[] {
+	const converter = `aresample=${sampleRate}:resampler=${resampler}${resampler === 'soxr' ? ':precision=20' : ':filter_size=16'}`;
+	const chains = paths.map((_, i) =>
+		[
+			// The first decoded sample's timestamp says where the sound starts on the clip's timeline
+			// (container timestamps kept by -copyts, edit lists applied by the demuxer); one line of
+			// the log reports it, from a branch that keeps a single sample.
+			`[${i}:a:0]asplit=2[sound${i}][first${i}]`,
+			`[first${i}]atrim=end_sample=1,ashowinfo@first${i},anullsink`,
+			// The rate is converted first and only then are gaps in the timestamps filled (at the low
+			// rate, where it costs a sixth): padding the start at the stream's own rate, as before,
+			// cost as much again as the conversion, and soxr asked to pad shifts by its filter delay.
+			`[sound${i}]${converter},aresample=async=1,aformat=sample_fmts=s16:channel_layouts=mono[pcm${i}]`
+		].join(';')
+	);
 	return [
-		'-nostdin', '-v', 'error', '-y',
-		// Keep the container's timestamps (edit lists applied by the demuxer) and pad or trim so that
-		// output sample k is at clip time k / sampleRate: audio that starts late gets leading silence.
-		'-copyts', '-i', path,
-		'-map', '0:a:0', '-vn', '-sn', '-dn',
-		// The padding is done at the stream's own rate, then the rate is converted: soxr converts 48 kHz
-		// to 8 kHz for about a fifth of what the AAC decode itself costs (ffmpeg's own resampler costs
-		// half to all of it again), but asked to pad as well it shifts the audio by its filter delay.
-		'-af', `aresample=async=1:first_pts=0,aresample=${sampleRate}:resampler=${resampler}${resampler === 'soxr' ? ':precision=20' : ':filter_size=16'}`,
-		'-ac', '1', '-ar', String(sampleRate),
-		// 16-bit samples, kept as they are: half the memory of float (an hour at 8 kHz is 58 MB, and
-		// first touching fresh memory is what costs here), far below any microphone's noise floor.
-		'-f', 's16le', outputPath
+		'-nostdin', '-hide_banner', '-nostats', '-v', 'info', '-y',
+		'-copyts',
+		...paths.flatMap((path) => ['-i', path]),
+		'-filter_complex', chains.join(';'),
+		// 16-bit samples, kept as they are: half the memory of float, far below any microphone's noise floor.
+		...outputPaths.flatMap((output, i) => ['-map', `[pcm${i}]`, '-f', 's16le', output])
 	];
+}
+
+/** `[ashowinfo@first3 @ 0x…] n:0 pts:3792 pts_time:0.079 … rate:48000 …` → input 3 starts at 3792/48000 s (the filter's time base is 1/rate). */
+export function firstSampleTimes(log: string): Map<number, number> {
+	const times = new Map<number, number>();
+	for (const match of log.matchAll(/\[ashowinfo@first(\d+) @ [^\]]*\] n:0 pts:(-?\d+) .*? rate:(\d+)/g)) {
+		times.set(Number(match[1]), Number(match[2]) / Number(match[3]));
+	}
+	return times;
 }
 
 let scratch: string | null = null;
@@ -42,9 +75,9 @@ let decodes = 0;
 
 /**
  * A folder of this process's for decoded sound, in memory where the system offers it (/dev/shm),
- * removed when the process ends. ffmpeg writes there and the file is read back in one call:
- * through a pipe, Node pays an event and a buffer for every 64 KB, about a third of a CPU-second
- * for an hour of sound, which is a fifth of what decoding that hour costs.
+ * removed when the process ends. ffmpeg writes there and the analysis reads it back a stretch
+ * at a time: through a pipe, Node pays an event and a buffer for every 64 KB, about a third of
+ * a CPU-second for an hour of sound, which is a fifth of what decoding that hour costs.
  */
 export function scratchFolder(): string {
 	if (scratch) return scratch;
@@ -82,69 +115,121 @@ function isRunning(pid: number): boolean {
 }
 
 /**
- * Decodes a clip's audio to mono 16-bit PCM in shared memory, so worker threads can read it
- * without a copy. Sample k is at clip time k / sampleRate.
+ * Decodes the sound of several clips in one ffmpeg run, each into a scratch file of its own
+ * (remove them with `releaseSound`). One unreadable clip fails the whole run, so then each is
+ * decoded alone and every failure is reported against its own file.
  */
-export async function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTrack> {
-	if (options.resampler) return decodeWith(path, options, options.resampler);
+export async function decodeSounds(paths: string[], options: DecodeOptions): Promise<PromiseSettledResult<DecodedSound>[]> {
 	try {
-		return await decodeWith(path, options, preferredResampler);
+		const sounds = await decodeWithFallback(paths, options);
+		return sounds.map((value) => ({ status: 'fulfilled', value }));
 	} catch (error) {
-		if (!(error instanceof MediaReadError) || preferredResampler !== 'soxr' || !/soxr|resampl/i.test(error.reason)) throw error;
-		preferredResampler = 'swr';
-		return decodeWith(path, options, 'swr');
+		if (paths.length === 1 || options.signal?.aborted) return paths.map(() => ({ status: 'rejected', reason: error }));
+		return Promise.all(
+			paths.map(async (path): Promise<PromiseSettledResult<DecodedSound>> => {
+				try {
+					const [sound] = await decodeWithFallback([path], options);
+					return { status: 'fulfilled', value: sound };
+				} catch (reason) {
+					return { status: 'rejected', reason };
+				}
+			})
+		);
 	}
 }
 
-function decodeWith(path: string, options: DecodeOptions, resampler: Resampler): Promise<PcmTrack> {
+/** One clip's sound, read whole into memory (for callers that want the samples, not a file). */
+export async function decodeAudio(path: string, options: DecodeOptions): Promise<PcmTrack> {
+	const [result] = await decodeSounds([path], options);
+	if (result.status === 'rejected') throw result.reason;
+	const sound = result.value;
+	try {
+		return { samples: readSamples(sound.scratchPath), sampleRate: sound.sampleRate, startSeconds: sound.startSeconds, fullScale: sound.fullScale };
+	} catch (error) {
+		throw new MediaReadError(path, `the decoded sound could not be read back: ${(error as Error).message}`);
+	} finally {
+		releaseSound(sound);
+	}
+}
+
+export function releaseSound(sound: DecodedSound) {
+	rmSync(sound.scratchPath, { force: true });
+}
+
+async function decodeWithFallback(paths: string[], options: DecodeOptions): Promise<DecodedSound[]> {
+	if (options.resampler) return decodeWith(paths, options, options.resampler);
+	try {
+		return await decodeWith(paths, options, preferredResampler);
+	} catch (error) {
+		if (!(error instanceof MediaReadError) || preferredResampler !== 'soxr' || !/soxr|resampl/i.test(error.reason)) throw error;
+		preferredResampler = 'swr';
+		return decodeWith(paths, options, 'swr');
+	}
+}
+
+function decodeWith(paths: string[], options: DecodeOptions, resampler: Resampler): Promise<DecodedSound[]> {
 	const { sampleRate } = options;
-	const outputPath = join(scratchFolder(), `${++decodes}.s16`);
-	const child = spawn(mediaBinaries().ffmpegPath, decodeArguments(path, sampleRate, resampler, outputPath), {
+	const folder = scratchFolder();
+	const outputPaths = paths.map(() => join(folder, `${++decodes}.s16`));
+	const removeOutputs = () => outputPaths.forEach((output) => rmSync(output, { force: true }));
+	const child = spawn(mediaBinaries().ffmpegPath, decodeArguments(paths, sampleRate, resampler, outputPaths), {
 		stdio: ['ignore', 'ignore', 'pipe'],
 		signal: options.signal
 	});
-	const stderr: string[] = [];
+	// The log is short (stream descriptions, one line per clip from ashowinfo, then any error).
+	let log = '';
 	child.stderr.setEncoding('utf8');
 	child.stderr.on('data', (text: string) => {
-		stderr.push(text);
-		if (stderr.length > 50) stderr.shift();
+		log += text;
+		if (log.length > 1 << 20) log = log.slice(-(1 << 19));
 	});
-	return new Promise<PcmTrack>((resolve, reject) => {
-		child.on('error', (error) => reject(new MediaReadError(path, `ffmpeg did not run: ${error.message}`)));
+	const who = paths.length === 1 ? paths[0] : paths.join(', ');
+	return new Promise<DecodedSound[]>((resolve, reject) => {
+		child.on('error', (error) => {
+			removeOutputs();
+			reject(new MediaReadError(who, error.name === 'AbortError' ? 'decoding was cancelled' : `ffmpeg did not run: ${error.message}`));
+		});
 		child.on('close', (code) => {
 			if (code !== 0) {
-				const last = stderr.join('').trim().split('\n').pop();
-				reject(new MediaReadError(path, last || `ffmpeg could not decode its audio (exit ${code})`));
+				removeOutputs();
+				const lines = log.trim().split('\n').filter((line) => !line.startsWith('[ashowinfo@'));
+				reject(new MediaReadError(who, lines.pop() || `ffmpeg could not decode its audio (exit ${code})`));
 				return;
 			}
+			const starts = firstSampleTimes(log);
 			try {
-				resolve({ samples: readSamples(outputPath), sampleRate, startSeconds: 0, fullScale: 32768 });
+				resolve(
+					paths.map((source, i) => ({
+						source,
+						scratchPath: outputPaths[i],
+						sampleRate,
+						// No line: not one sample was decoded, and the file is empty.
+						startSeconds: starts.get(i) ?? 0,
+						length: Math.floor(statSync(outputPaths[i]).size / 2),
+						fullScale: 32768
+					}))
+				);
 			} catch (error) {
-				reject(new MediaReadError(path, `the decoded sound could not be read back: ${(error as Error).message}`));
+				removeOutputs();
+				reject(new MediaReadError(who, `the decoded sound could not be found: ${(error as Error).message}`));
 			}
 		});
-	}).finally(() => {
-		try {
-			unlinkSync(outputPath);
-		} catch {
-			// never written (ffmpeg failed first) or already gone
-		}
 	});
 }
 
-/** The whole file, read straight into shared memory. The machine's byte order is little-endian (x64, arm64). */
+/** A whole scratch file in memory. The machine's byte order is little-endian (x64, arm64). */
 function readSamples(filePath: string): Int16Array {
 	const fd = openSync(filePath, 'r');
 	try {
 		const size = fstatSync(fd).size & ~1;
-		const buffer = new SharedArrayBuffer(size);
-		const bytes = new Uint8Array(buffer);
+		const samples = new Int16Array(size / 2);
+		const bytes = new Uint8Array(samples.buffer);
 		for (let offset = 0; offset < size; ) {
 			const read = readSync(fd, bytes, offset, Math.min(1 << 26, size - offset), offset);
 			if (read === 0) throw new Error('the file ended early');
 			offset += read;
 		}
-		return new Int16Array(buffer);
+		return samples;
 	} finally {
 		closeSync(fd);
 	}
