@@ -4,7 +4,7 @@
  */
 import { resolve } from 'node:path';
 import { formatRational } from '../src/lib/sync/rational';
-import { alignFiles, frameRows, MediaReadErrors, type AlignReport } from '../src/lib/server/media/align-runner';
+import { alignFiles, frameRows, MediaReadErrors, type AlignProgress, type AlignReport } from '../src/lib/server/media/align-runner';
 
 interface Arguments {
 	json: boolean;
@@ -98,11 +98,16 @@ async function main() {
 	}
 	try {
 		// The correlation view is for the workbench's plot; this command prints no such thing.
-		const report = await alignFiles(args.files, { referenceIndex, pairOptions: { keepCorrelationView: false } });
+		// For the benchmark: when each stage's steps finished, in ms since this process began.
+		const stages: string[] = [];
+		const onProgress = process.env.LOCKSTEP_ALIGN_STATS
+			? (p: AlignProgress) => stages.push(`${p.stage} ${p.done}/${p.total} ${performance.now().toFixed(0)}`)
+			: undefined;
+		const report = await alignFiles(args.files, { referenceIndex, pairOptions: { keepCorrelationView: false }, onProgress });
 		process.stdout.write(args.json ? JSON.stringify(toJson(report, args.files, args.everySeconds)) + '\n' : toTable(report, args.files, args.everySeconds));
 		// For the benchmark: time inside this process and its peak memory (worker threads included).
 		if (process.env.LOCKSTEP_ALIGN_STATS) {
-			const stats = { alignMs: performance.now() - startedAt, maxRssKb: process.resourceUsage().maxRSS };
+			const stats = { alignMs: performance.now() - startedAt, maxRssKb: process.resourceUsage().maxRSS, stages };
 			process.stderr.write(`${JSON.stringify({ alignStats: stats })}\n`);
 		}
 	} catch (error) {

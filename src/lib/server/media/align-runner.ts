@@ -4,11 +4,11 @@ import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, frameSpanSeconds, type FrameTiming } from '../../sync/frames';
-import { defaultPairOptions, type PairEstimate, type PairOptions } from '../../sync/pair';
+import { defaultPairOptions, warmUpPairing, type PairEstimate, type PairOptions } from '../../sync/pair';
 import { solveSession, type SessionSolution } from '../../sync/solve';
 import type { Rational } from '../../sync/rational';
 import { runAlignTask, type AlignTask, type AlignTaskResult, type PreparedSound } from './align-worker';
-import { decodeSounds, releaseSound, type DecodedSound } from './decode';
+import { audioStartSeconds, decodeSounds, releaseSound, type DecodedPcm, type DecodedSound } from './decode';
 import { MediaReadError, probeMedia, type MediaProbe } from './probe';
 
 export interface AlignOptions {
@@ -170,7 +170,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		promise.catch(() => {}); // a failed decode is reported from `decodes` below
 		return { promise, settle };
 	});
-	const sounds: DecodedSound[] = [];
+	const sounds: DecodedPcm[] = [];
 	let decoded = 0;
 	// How a decoded clip is prepared is known once the probes tell how much media there is (threads or not).
 	let engineKnown: (prepare: (sound: DecodedSound) => Promise<PreparedSound>) => void = () => {};
@@ -192,7 +192,8 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 				try {
 					if (result.status === 'rejected') throw result.reason;
 					sounds.push(result.value);
-					const prepared = prepare(result.value);
+					// Where the sound starts comes from the clip's facts (ffprobe's may arrive after the decode).
+					const prepared = prepare({ ...result.value, startSeconds: audioStartSeconds(await probing[index]) });
 					ready[index].settle(prepared);
 					await prepared;
 				} catch (error) {
@@ -226,7 +227,8 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	progress({ stage: 'probe', done: probes.length, total: probes.length });
 
 	const totalSeconds = probes.reduce((sum, p) => sum + p.durationSeconds, 0);
-	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && totalSeconds > 300);
+	const workersChoice = options.workers ?? (process.env.TMP_WORKERS as AlignOptions['workers']) ?? 'auto';
+	const usePool = workersChoice === 'pool' || (workersChoice === 'auto' && totalSeconds > 300);
 	const worker = usePool ? await workerFile() : null;
 	// Loaded only when threads are used: a few laps of a statue align faster without them.
 	const PiscinaPool = worker ? (await import('piscina')).Piscina : null;
@@ -240,6 +242,8 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			})
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
+	// This thread has nothing to do until a decode finishes: the pairing's first, slow windows go here.
+	if (!pool && decoded === 0) warmUpPairing(sampleRate, pairOptions);
 	engineKnown(async (sound: DecodedSound): Promise<PreparedSound> => {
 		const result = await runTask({ kind: 'prepare', sound, options: pairOptions });
 		if (result.kind !== 'prepare') throw new Error('align worker answered a prepare task with a pair');
