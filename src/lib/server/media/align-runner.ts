@@ -135,13 +135,14 @@ async function workerFile(): Promise<{ url: string; plainJavaScript: boolean; cl
  */
 export function decodeGroups(durations: (number | null)[], sharedSeconds = 300): number[][] {
 	const order = durations.map((duration, index) => ({ duration, index })).sort((x, y) => (y.duration ?? Infinity) - (x.duration ?? Infinity));
-	const groups: { indices: number[]; seconds: number }[] = [];
+	const groups: { indices: number[]; seconds: number; short: boolean }[] = [];
 	for (const { duration, index } of order) {
-		const shared = duration !== null && duration <= sharedSeconds / 2 ? groups.find((g) => g.seconds + duration <= sharedSeconds && g.seconds <= sharedSeconds / 2) : undefined;
+		const short = duration !== null && duration <= sharedSeconds / 2;
+		const shared = short ? groups.find((g) => g.short && g.seconds + duration <= sharedSeconds) : undefined;
 		if (shared) {
 			shared.indices.push(index);
 			shared.seconds += duration!;
-		} else groups.push({ indices: [index], seconds: duration ?? Infinity });
+		} else groups.push({ indices: [index], seconds: duration ?? Infinity, short });
 	}
 	return groups.map((g) => g.indices.sort((x, y) => x - y));
 }
