@@ -409,23 +409,6 @@ function refine(a: AnalysisTrack, b: AnalysisTrack, coarse: { match: CoarseMatch
 }
 
 /**
- * Runs the window measurement a few times on made-up sound and drops the results, for a caller
- * with a core to spare (while ffmpeg decodes, say). The first windows of a run cost several
- * times the rest, in transform tables and in the JIT compiling the loops; done here they are
- * off the critical path.
- */
-export function warmUpPairing(sampleRate: number, options: PairOptions = defaultPairOptions, windows = 3) {
-	const windowLength = Math.round(options.windowSeconds * sampleRate);
-	const margin = Math.round(0.04 * sampleRate);
-	// Any sound with energy across the band will do; a fixed pseudo-random one keeps this repeatable.
-	let state = 12345;
-	const a = Float32Array.from({ length: windowLength + 2 * margin }, () => ((state = (state * 1103515245 + 12345) % 2147483648) / 2147483648) - 0.5);
-	const track = pcmSource({ samples: a, sampleRate, startSeconds: 0 });
-	const b = pcmSource({ samples: a.subarray(margin, margin + windowLength), sampleRate, startSeconds: 0 });
-	for (let i = 0; i < windows; i++) measureWindow(track, b, options.windowSeconds / 2, { lagSeconds: margin / sampleRate, marginSeconds: margin / sampleRate }, options);
-}
-
-/**
  * Calibrated on the fixtures: a real match has most windows on one line; unrelated sound
  * puts at most a few windows on a line by chance.
  */

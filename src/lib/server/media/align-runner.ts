@@ -4,12 +4,13 @@ import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, frameSpanSeconds, type FrameTiming } from '../../sync/frames';
-import { defaultPairOptions, warmUpPairing, type PairEstimate, type PairOptions } from '../../sync/pair';
+import { defaultPairOptions, type PairEstimate, type PairOptions } from '../../sync/pair';
 import { solveSession, type SessionSolution } from '../../sync/solve';
 import type { Rational } from '../../sync/rational';
 import { runAlignTask, type AlignTask, type AlignTaskResult, type PreparedSound } from './align-worker';
 import { audioStartSeconds, decodeSounds, releaseSound, type DecodedPcm, type DecodedSound } from './decode';
 import { MediaReadError, probeMedia, type MediaProbe } from './probe';
+import { readMp4Facts } from './mp4-facts';
 
 export interface AlignOptions {
 	/** Index (in the given order) of the reference clip; default: the clip sharing sound with the most others. */
@@ -20,7 +21,9 @@ export interface AlignOptions {
 	concurrency?: number;
 	/**
 	 * Where the transforms run: 'pool' in worker threads, 'inline' on this thread. 'auto' uses the
-	 * pool for more than 5 minutes of media, below which starting workers costs more than it saves.
+	 * pool only with four cores or more, four clips or more and over 5 minutes of media: on two
+	 * cores the decodes already keep both busy, and threads cost start-up and compiling each
+	 * (three 60-minute clips took 0.5–1 CPU-s more with them and finished no sooner).
 	 */
 	workers?: 'auto' | 'pool' | 'inline';
 	pairOptions?: Partial<PairOptions>;
@@ -84,9 +87,6 @@ export function frameTimingOf(probe: MediaProbe): FrameTiming | null {
 	const frameCount = video.frameCount ?? Math.round((duration * frameRate.num) / frameRate.den);
 	return { kind: 'constant', frameRate, firstFrameSeconds: video.startSeconds, frameCount };
 }
-
-// Until the moov reader lands.
-const readMp4Facts = async (_path: string): Promise<MediaProbe | null> => null;
 
 async function mapLimited<T, R>(items: T[], limit: number, work: (item: T, index: number) => Promise<R>): Promise<PromiseSettledResult<R>[]> {
 	const results: PromiseSettledResult<R>[] = new Array(items.length);
@@ -228,8 +228,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	progress({ stage: 'probe', done: probes.length, total: probes.length });
 
 	const totalSeconds = probes.reduce((sum, p) => sum + p.durationSeconds, 0);
-	const workersChoice = options.workers ?? (process.env.TMP_WORKERS as AlignOptions['workers']) ?? 'auto';
-	const usePool = workersChoice === 'pool' || (workersChoice === 'auto' && totalSeconds > 300);
+	const usePool = options.workers === 'pool' || ((options.workers ?? 'auto') === 'auto' && concurrency >= 4 && paths.length >= 4 && totalSeconds > 300);
 	const worker = usePool ? await workerFile() : null;
 	// Loaded only when threads are used: a few laps of a statue align faster without them.
 	const PiscinaPool = worker ? (await import('piscina')).Piscina : null;
@@ -243,8 +242,6 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			})
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
-	// This thread has nothing to do until a decode finishes: the pairing's first, slow windows go here.
-	if (!pool && decoded === 0) warmUpPairing(sampleRate, pairOptions);
 	engineKnown(async (sound: DecodedSound): Promise<PreparedSound> => {
 		const result = await runTask({ kind: 'prepare', sound, options: pairOptions });
 		if (result.kind !== 'prepare') throw new Error('align worker answered a prepare task with a pair');
