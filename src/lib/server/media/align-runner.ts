@@ -10,7 +10,7 @@ import type { Rational } from '../../sync/rational';
 import { runAlignTask, type AlignTask, type AlignTaskResult, type PreparedSound } from './align-worker';
 import { audioStartSeconds, decodeSounds, releaseSound, type DecodedPcm, type DecodedSound } from './decode';
 import { MediaReadError, probeMedia, type MediaProbe } from './probe';
-import { readMp4Facts } from './mp4-facts';
+import { inspectMp4 } from './mp4-facts';
 
 export interface AlignOptions {
 	/** Index (in the given order) of the reference clip; default: the clip sharing sound with the most others. */
@@ -162,8 +162,16 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	options.signal?.addEventListener('abort', stopDecodes, { once: true });
 	// MP4 and MOV files describe themselves in their moov box, read here in milliseconds; anything
 	// else (or anything unusual) is asked of ffprobe, which runs beside the decodes.
-	const quick = await Promise.all(paths.map((path) => readMp4Facts(path).catch(() => null)));
-	const probing = paths.map((path, i) => (quick[i] ? Promise.resolve(quick[i]) : probeMedia(path)));
+	const inspections = await Promise.all(paths.map((path) => inspectMp4(path)));
+	const quick = inspections.map((inspection) => ('facts' in inspection ? inspection.facts : null));
+	// A declined file's header may still say how long it is: enough to plan the decodes by.
+	const plannedSeconds = inspections.map((inspection) => ('facts' in inspection ? inspection.facts.durationSeconds : (inspection.movieSeconds ?? null)));
+	// A file declined for its variable frame timing needs its frame times read as well: at once.
+	const probing = paths.map((path, i) => {
+		const inspection = inspections[i];
+		if ('facts' in inspection) return Promise.resolve(inspection.facts);
+		return probeMedia(path, inspection.declined === 'variable frame timing' ? { frameTimes: 'always' } : {});
+	});
 	for (const p of probing) p.catch(stopDecodes);
 	const ready = paths.map(() => {
 		let settle: (prepared: Promise<PreparedSound | null>) => void = () => {};
@@ -180,7 +188,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	const silent = quick.map((facts) => facts !== null && !facts.audio);
 	silent.forEach((isSilent, i) => isSilent && ready[i].settle(Promise.resolve(null)));
 	const toDecode = paths.map((_, i) => i).filter((i) => !silent[i]);
-	const groups = decodeGroups(toDecode.map((i) => quick[i]?.durationSeconds ?? null)).map((g) => g.map((k) => toDecode[k]));
+	const groups = decodeGroups(toDecode.map((i) => plannedSeconds[i])).map((g) => g.map((k) => toDecode[k]));
 	const decodes = mapLimited(groups, concurrency, async (group) => {
 		const results = await decodeSounds(
 			group.map((i) => paths[i]),

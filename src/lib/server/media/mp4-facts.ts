@@ -16,7 +16,11 @@ export async function readMp4Facts(path: string): Promise<MediaProbe | null> {
 	return 'facts' in inspection ? inspection.facts : null;
 }
 
-export type Mp4Inspection = { facts: MediaProbe } | { declined: string };
+/**
+ * A declined file still says how long the movie is when its header was read: enough to plan
+ * work by (which clips share an ffmpeg run), not to report.
+ */
+export type Mp4Inspection = { facts: MediaProbe } | { declined: string; movieSeconds?: number };
 
 /** Like `readMp4Facts`, but says why it declined. */
 export async function inspectMp4(path: string): Promise<Mp4Inspection> {
@@ -26,7 +30,7 @@ export async function inspectMp4(path: string): Promise<Mp4Inspection> {
 		const movie = await loadMovie(file, await findMovieBox(file));
 		return { facts: factsFromMovie(path, movie) };
 	} catch (error) {
-		if (error instanceof Declined) return { declined: error.message };
+		if (error instanceof Declined) return { declined: error.message, ...(error.movieSeconds !== undefined ? { movieSeconds: error.movieSeconds } : {}) };
 		return { declined: `unreadable: ${error instanceof Error ? error.message : String(error)}` };
 	} finally {
 		await file?.close();
@@ -36,7 +40,9 @@ export async function inspectMp4(path: string): Promise<Mp4Inspection> {
 /** What ffprobe calls the mov demuxer, whatever the file's brand. */
 const movFormatName = 'mov,mp4,m4a,3gp,3g2,mj2';
 
-class Declined extends Error {}
+class Declined extends Error {
+	movieSeconds?: number;
+}
 
 function decline(reason: string): never {
 	throw new Declined(reason);
@@ -340,6 +346,15 @@ function factsFromMovie(path: string, movie: Movie): MediaProbe {
 	if (boxes.some((b) => b.type === 'mvex')) decline('fragmented movie (mvex)');
 	if (boxes.some((b) => b.type === 'cmov')) decline('compressed movie header');
 	const header = readMovieHeader(movie, only(boxes, 'mvhd', 'moov'));
+	try {
+		return factsWithHeader(path, movie, boxes, header);
+	} catch (error) {
+		if (error instanceof Declined) error.movieSeconds = header.duration / header.timescale;
+		throw error;
+	}
+}
+
+function factsWithHeader(path: string, movie: Movie, boxes: Box[], header: MovieHeader): MediaProbe {
 	for (const box of boxes) if (box.type === 'udta' || box.type === 'meta') checkMetadata(movie, box);
 	const tracks = boxes.filter((b) => b.type === 'trak').map((b) => readTrack(movie, b));
 	if (!tracks.length) decline('no tracks');

@@ -130,6 +130,9 @@ export interface ProbeOptions {
 }
 
 export async function probeMedia(path: string, options: ProbeOptions = {}): Promise<MediaProbe> {
+	// Asked for every file's frame times, both reads run at once instead of one after the other.
+	const frameTimesRead = options.frameTimes === 'always' ? readFrameTimes(path) : null;
+	frameTimesRead?.catch(() => {}); // a file ffprobe cannot read fails below, with the description's error
 	const text = await ffprobeJson(path, ['-print_format', 'json', '-show_format', '-show_streams']);
 	let parsed: FfprobeOutput;
 	try {
@@ -159,7 +162,7 @@ export async function probeMedia(path: string, options: ProbeOptions = {}): Prom
 		let frameTimesSeconds: Float64Array | null = null;
 		let variableFrameRate = false;
 		if (check === 'always' || (check === 'auto' && (rateDisagrees || countDisagrees || !frameRate))) {
-			const times = await readFrameTimes(path);
+			const times = await (frameTimesRead ?? readFrameTimes(path));
 			variableFrameRate = isVariableTiming(times, averageFrameRate ?? frameRate);
 			if (variableFrameRate) frameTimesSeconds = times;
 		}
