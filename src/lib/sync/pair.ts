@@ -47,13 +47,13 @@ export const defaultPairOptions: PairOptions = {
 	// 1.9 s at 8 kHz plus the search margins still fits a 16384-point transform; 2 s would need 32768.
 	windowSeconds: 1.9,
 	minWindowSpacingSeconds: 1,
-	// A dozen windows on a lap of a minute and a half, 48 on anything over 5⅓ minutes: the offset of
+	// A dozen windows on a lap of a minute and a half, 32 on anything over 3½ minutes: the offset of
 	// a short clip is far inside its tolerance with a dozen (worst error 0.03 ms on the fixtures),
 	// and long clips need the span for drift. In a fresh process every window costs a millisecond
 	// or more while the JIT catches up, so a short job is mostly windows.
 	windowsPerMinute: 9,
 	minWindows: 12,
-	maxWindows: 48,
+	maxWindows: 32,
 	maxDriftPpm: 200,
 	drift: defaultDriftFitOptions,
 	silenceDb: -90,
