@@ -47,25 +47,26 @@ export function onsetEnvelope(
 	startSeconds: number,
 	options: OnsetEnvelopeOptions = {}
 ): OnsetEnvelope {
-	const builder = new OnsetEnvelopeBuilder(sampleRate, startSeconds, samples.length, options);
+	const builder = new OnsetEnvelopeBuilder(sampleRate, options, samples.length);
 	builder.push(samples);
-	return builder.finish();
+	return builder.finish(startSeconds);
 }
 
 /**
- * The same envelope fed a stretch at a time, so a long clip can be read from disk in passing
- * instead of held in memory; the filter state carries over, so the result does not depend on
- * how the sound was cut.
+ * The same envelope fed a stretch at a time, as the sound arrives (while ffmpeg is still
+ * writing it, say) instead of held in memory whole; the filter state carries over, so the result
+ * does not depend on how the sound was cut. Samples past the last whole hop count towards the
+ * level only.
  */
 export class OnsetEnvelopeBuilder {
 	private readonly hop: number;
 	private readonly rate: number;
-	private readonly values: Float32Array;
+	private values: Float32Array;
 	private readonly filter: Biquad;
 	// The log's floor, in the samples' own units: −100 dBFS of energy.
 	private readonly floor: number;
 	private readonly fullScale: number;
-	private readonly startSeconds: number;
+	private readonly sampleRate: number;
 	private x1 = 0;
 	private x2 = 0;
 	private y1 = 0;
@@ -81,30 +82,33 @@ export class OnsetEnvelopeBuilder {
 
 	constructor(
 		sampleRate: number,
-		startSeconds: number,
-		/** Samples that will be pushed in all. */
-		readonly length: number,
-		options: OnsetEnvelopeOptions = {}
+		options: OnsetEnvelopeOptions = {},
+		/** Samples expected in all, if known: the envelope's array is sized once. */
+		expectedLength = 0
 	) {
+		this.sampleRate = sampleRate;
 		this.fullScale = options.fullScale ?? 1;
 		this.hop = Math.max(1, Math.round(sampleRate / (options.rate ?? 250)));
 		this.rate = sampleRate / this.hop;
 		this.filter = highPassBiquad(options.highPassHz ?? 300, sampleRate);
-		this.values = new Float32Array(Math.floor(length / this.hop));
+		this.values = new Float32Array(Math.max(1024, Math.floor(expectedLength / this.hop)));
 		this.floor = 1e-10 * this.fullScale * this.fullScale;
-		this.startSeconds = startSeconds + this.hop / sampleRate / 2;
 	}
 
 	push(samples: Float32Array | Int16Array) {
+		const hopsAhead = this.frame + Math.ceil((this.inHop + samples.length) / this.hop);
+		if (hopsAhead > this.values.length) {
+			const grown = new Float32Array(Math.max(hopsAhead, this.values.length * 2));
+			grown.set(this.values.subarray(0, this.frame));
+			this.values = grown;
+		}
 		const { b0, b1, b2, a1, a2 } = this.filter;
 		const { hop, values, floor } = this;
-		const count = values.length;
 		// Two cascaded sections (4th order) so rumble well below the cut-off cannot dominate the energy.
 		let { x1, x2, y1, y2, z1, z2, frame, inHop, energy, previousLog, squares } = this;
 		for (let index = 0; index < samples.length; index++) {
 			const x = samples[index];
 			squares += x * x;
-			if (frame >= count) continue; // the tail past the last whole hop counts towards the level only
 			const y = b0 * x + b1 * x1 + b2 * x2 - a1 * y1 - a2 * y2;
 			x2 = x1;
 			x1 = x;
@@ -127,11 +131,12 @@ export class OnsetEnvelopeBuilder {
 		this.seen += samples.length;
 	}
 
-	finish(): OnsetEnvelope {
+	/** The envelope of everything pushed, for sound whose first sample is at `startSeconds`. */
+	finish(startSeconds: number): OnsetEnvelope {
 		return {
-			values: this.values,
+			values: this.values.slice(0, this.frame),
 			rate: this.rate,
-			startSeconds: this.startSeconds,
+			startSeconds: startSeconds + this.hop / this.sampleRate / 2,
 			rms: Math.sqrt(this.squares / Math.max(this.seen, 1)) / this.fullScale
 		};
 	}

@@ -4,11 +4,12 @@ import { join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { Piscina } from 'piscina';
 import { sessionTimeOf, frameAt, frameSpanSeconds, type FrameTiming } from '../../sync/frames';
-import { defaultPairOptions, type PairEstimate, type PairOptions } from '../../sync/pair';
+import { OnsetEnvelopeBuilder } from '../../sync/onset-envelope';
+import { defaultPairOptions, envelopeOptions, levelDbOf, type PairEstimate, type PairOptions } from '../../sync/pair';
 import { solveSession, type SessionSolution } from '../../sync/solve';
 import type { Rational } from '../../sync/rational';
 import { runAlignTask, type AlignTask, type AlignTaskResult, type PreparedSound } from './align-worker';
-import { audioStartSeconds, decodeSounds, releaseSound, type DecodedPcm, type DecodedSound } from './decode';
+import { audioStartSeconds, decodedFullScale, decodeSounds, releaseSound, type DecodedPcm, type DecodedSound } from './decode';
 import { MediaReadError, probeMedia, type MediaProbe } from './probe';
 import { inspectMp4 } from './mp4-facts';
 
@@ -181,20 +182,23 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	});
 	const sounds: DecodedPcm[] = [];
 	let decoded = 0;
-	// How a decoded clip is prepared is known once the probes tell how much media there is (threads or not).
-	let engineKnown: (prepare: (sound: DecodedSound) => Promise<PreparedSound>) => void = () => {};
-	const engine = new Promise<(sound: DecodedSound) => Promise<PreparedSound>>((resolve) => (engineKnown = resolve));
 	// A clip its facts show to have no sound is not decoded: nothing aligns it.
 	const silent = quick.map((facts) => facts !== null && !facts.audio);
 	silent.forEach((isSilent, i) => isSilent && ready[i].settle(Promise.resolve(null)));
 	const toDecode = paths.map((_, i) => i).filter((i) => !silent[i]);
 	const groups = decodeGroups(toDecode.map((i) => plannedSeconds[i])).map((g) => g.map((k) => toDecode[k]));
 	const decodes = mapLimited(groups, concurrency, async (group) => {
+		// Each clip's envelope is built from its samples as ffmpeg writes them, while the run goes on.
+		const envelopes = new Map<number, OnsetEnvelopeBuilder>();
+		const follow = (k: number, samples: Int16Array | null) => {
+			const index = group[k];
+			if (!samples) envelopes.set(index, new OnsetEnvelopeBuilder(sampleRate, envelopeOptions(pairOptions, decodedFullScale), (plannedSeconds[index] ?? 0) * sampleRate));
+			else envelopes.get(index)!.push(samples);
+		};
 		const results = await decodeSounds(
 			group.map((i) => paths[i]),
-			{ sampleRate, signal: stop.signal }
+			{ sampleRate, signal: stop.signal, follow }
 		);
-		const prepare = await engine;
 		return Promise.allSettled(
 			results.map(async (result, k) => {
 				const index = group[k];
@@ -202,9 +206,9 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 					if (result.status === 'rejected') throw result.reason;
 					sounds.push(result.value);
 					// Where the sound starts comes from the clip's facts (ffprobe's may arrive after the decode).
-					const prepared = prepare({ ...result.value, startSeconds: audioStartSeconds(await probing[index]) });
-					ready[index].settle(prepared);
-					await prepared;
+					const sound: DecodedSound = { ...result.value, startSeconds: audioStartSeconds(await probing[index]) };
+					const envelope = envelopes.get(index)!.finish(sound.startSeconds);
+					ready[index].settle(Promise.resolve({ sound, envelope, levelDb: levelDbOf(envelope) }));
 				} catch (error) {
 					// A clip without sound is aligned by nothing, not an error: its probe says so.
 					const probed = await probing[index].catch(() => null);
@@ -226,7 +230,6 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 		p.status === 'rejected' ? [p.reason instanceof MediaReadError ? p.reason : new MediaReadError(paths[i], String(p.reason))] : []
 	);
 	if (failures.length) {
-		engineKnown(() => Promise.reject(new MediaReadErrors(failures)));
 		await decodes;
 		sounds.forEach(releaseSound);
 		options.signal?.removeEventListener('abort', stopDecodes);
@@ -250,15 +253,8 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 			})
 		: null;
 	const runTask = async (task: AlignTask): Promise<AlignTaskResult> => (pool ? pool.run(task) : runAlignTask(task));
-	engineKnown(async (sound: DecodedSound): Promise<PreparedSound> => {
-		const result = await runTask({ kind: 'prepare', sound, options: pairOptions });
-		if (result.kind !== 'prepare') throw new Error('align worker answered a prepare task with a pair');
-		return result.prepared;
-	});
 	const estimate = async (a: PreparedSound, b: PreparedSound): Promise<PairEstimate> => {
-		const result = await runTask({ kind: 'pair', a, b, options: pairOptions });
-		if (result.kind !== 'pair') throw new Error('align worker answered a pair task with a track');
-		return result.estimate;
+		return (await runTask({ a, b, options: pairOptions })).estimate;
 	};
 	try {
 		const pairIndices: [number, number][] = [];

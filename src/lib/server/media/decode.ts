@@ -11,6 +11,12 @@ export interface DecodeOptions {
 	signal?: AbortSignal;
 	/** Force one resampler (tests compare them); by default soxr, falling back to ffmpeg's own. */
 	resampler?: Resampler;
+	/**
+	 * Hands over each clip's samples (by its index in `paths`) in order, as ffmpeg writes them, so
+	 * they can be analysed while the rest decodes. The array is reused: read it before returning.
+	 * `null` means start again: this clip is being decoded anew (alone, after its run failed).
+	 */
+	follow?: (index: number, samples: Int16Array | null) => void;
 }
 
 export type Resampler = 'soxr' | 'swr';
@@ -104,6 +110,9 @@ function isRunning(pid: number): boolean {
 	}
 }
 
+/** What a full-scale sample is in the decoded 16-bit sound. */
+export const decodedFullScale = 32768;
+
 /** Decoded sound not yet placed on its clip's timeline: its probe says where it starts. */
 export type DecodedPcm = Omit<DecodedSound, 'startSeconds'>;
 
@@ -121,7 +130,8 @@ export async function decodeSounds(paths: string[], options: DecodeOptions): Pro
 		return Promise.all(
 			paths.map(async (path): Promise<PromiseSettledResult<DecodedPcm>> => {
 				try {
-					const [sound] = await decodeWithFallback([path], options);
+					const follow = options.follow;
+					const [sound] = await decodeWithFallback([path], { ...options, follow: follow && ((_, samples) => follow(paths.indexOf(path), samples)) });
 					return { status: 'fulfilled', value: sound };
 				} catch (reason) {
 					return { status: 'rejected', reason };
@@ -174,6 +184,11 @@ function decodeWith(paths: string[], options: DecodeOptions, resampler: Resample
 		stdio: ['ignore', 'ignore', 'pipe'],
 		signal: options.signal
 	});
+	const follow = options.follow;
+	paths.forEach((_, i) => follow?.(i, null));
+	const followers = follow ? outputPaths.map((output, i) => new GrowingFileReader(output, (samples) => follow(i, samples))) : [];
+	// ffmpeg writes each output as it goes; reading behind it overlaps the analysis with the decode.
+	const polling = followers.length ? setInterval(() => followers.forEach((f) => f.readNew()), 20) : null;
 	let log = '';
 	child.stderr.setEncoding('utf8');
 	child.stderr.on('data', (text: string) => {
@@ -183,23 +198,31 @@ function decodeWith(paths: string[], options: DecodeOptions, resampler: Resample
 	const who = paths.length === 1 ? paths[0] : paths.join(', ');
 	return new Promise<DecodedPcm[]>((resolve, reject) => {
 		child.on('error', (error) => {
+			if (polling) clearInterval(polling);
+			followers.forEach((f) => f.close());
 			removeOutputs();
 			reject(new MediaReadError(who, error.name === 'AbortError' ? 'decoding was cancelled' : `ffmpeg did not run: ${error.message}`));
 		});
 		child.on('close', (code) => {
+			if (polling) clearInterval(polling);
 			if (code !== 0) {
+				followers.forEach((f) => f.close());
 				removeOutputs();
 				reject(new MediaReadError(who, log.trim().split('\n').pop() || `ffmpeg could not decode its audio (exit ${code})`));
 				return;
 			}
 			try {
+				for (const f of followers) {
+					f.readNew();
+					f.close();
+				}
 				resolve(
 					paths.map((source, i) => ({
 						source,
 						scratchPath: outputPaths[i],
 						sampleRate,
 						length: Math.floor(statSync(outputPaths[i]).size / 2),
-						fullScale: 32768
+						fullScale: decodedFullScale
 					}))
 				);
 			} catch (error) {
@@ -208,6 +231,50 @@ function decodeWith(paths: string[], options: DecodeOptions, resampler: Resample
 			}
 		});
 	});
+}
+
+/** One buffer for reading sound in passing: reused, it stays in memory that is already mapped. */
+const passingBuffer = new Int16Array(1 << 19);
+
+/** Reads what a writer has added to a file since the last call, whole samples only, a buffer at a time. */
+class GrowingFileReader {
+	private fd: number | null = null;
+	private offset = 0;
+
+	constructor(
+		private readonly path: string,
+		private readonly take: (samples: Int16Array) => void
+	) {}
+
+	readNew() {
+		if (this.fd === null) {
+			try {
+				this.fd = openSync(this.path, 'r');
+			} catch {
+				return; // not created yet
+			}
+		}
+		const bytes = new Uint8Array(passingBuffer.buffer);
+		const available = fstatSync(this.fd).size;
+		while (available - this.offset >= 2) {
+			const wanted = Math.min(bytes.length, (available - this.offset) & ~1);
+			let got = 0;
+			while (got < wanted) {
+				const read = readSync(this.fd, bytes, got, wanted - got, this.offset + got);
+				if (read === 0) break;
+				got += read;
+			}
+			const whole = got & ~1;
+			if (whole === 0) break;
+			this.take(passingBuffer.subarray(0, whole / 2));
+			this.offset += whole;
+		}
+	}
+
+	close() {
+		if (this.fd !== null) closeSync(this.fd);
+		this.fd = null;
+	}
 }
 
 /** A whole scratch file in memory. The machine's byte order is little-endian (x64, arm64). */

@@ -1,12 +1,6 @@
 import { closeSync, openSync, readSync } from 'node:fs';
-import { OnsetEnvelopeBuilder, type OnsetEnvelope } from '../../sync/onset-envelope';
-import { envelopeOptions, type PairOptions } from '../../sync/pair';
 import type { PcmSource } from '../../sync/types';
 import type { DecodedSound } from './decode';
-
-/** One buffer for reading sound in passing: reused, it stays in memory that is already mapped. */
-let passingBuffer: Int16Array | null = null;
-const PASSING_SAMPLES = 1 << 19;
 
 function readInto(fd: number, samples: Int16Array, firstSample: number) {
 	const bytes = new Uint8Array(samples.buffer, samples.byteOffset, samples.byteLength);
@@ -15,27 +9,6 @@ function readInto(fd: number, samples: Int16Array, firstSample: number) {
 		if (read === 0) throw new Error('the decoded sound ended early');
 		offset += read;
 	}
-}
-
-/**
- * The clip's onset envelope, read from its scratch file a megabyte at a time. Reading an hour
- * (58 MB at 8 kHz) into fresh memory cost more than filtering it: every new page is a fault,
- * about 6 µs each on this kind of machine.
- */
-export function soundEnvelope(sound: DecodedSound, options: Pick<PairOptions, 'envelopeRate' | 'band'>): OnsetEnvelope {
-	const builder = new OnsetEnvelopeBuilder(sound.sampleRate, sound.startSeconds, sound.length, envelopeOptions(options, sound.fullScale));
-	passingBuffer ??= new Int16Array(PASSING_SAMPLES);
-	const fd = openSync(sound.scratchPath, 'r');
-	try {
-		for (let start = 0; start < sound.length; start += PASSING_SAMPLES) {
-			const chunk = passingBuffer.subarray(0, Math.min(PASSING_SAMPLES, sound.length - start));
-			readInto(fd, chunk, start);
-			builder.push(chunk);
-		}
-	} finally {
-		closeSync(fd);
-	}
-	return builder.finish();
 }
 
 /** The scratch file as a source the pairing reads windows from; close it when the pairs are done. */
