@@ -187,7 +187,10 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	silent.forEach((isSilent, i) => isSilent && ready[i].settle(Promise.resolve(null)));
 	const toDecode = paths.map((_, i) => i).filter((i) => !silent[i]);
 	const groups = decodeGroups(toDecode.map((i) => plannedSeconds[i])).map((g) => g.map((k) => toDecode[k]));
-	const decodes = mapLimited(groups, concurrency, async (group) => {
+	// Up to twice as many ffmpeg runs as cores at once: with three long clips on two cores, two at
+	// a time leaves the third to decode alone at the end while a core idles; all three at once
+	// share both cores to the finish (and their envelopes are read as they are written).
+	const decodes = mapLimited(groups, Math.max(concurrency, 2 * concurrency), async (group) => {
 		// Each clip's envelope is built from its samples as ffmpeg writes them, while the run goes on.
 		const envelopes = new Map<number, OnsetEnvelopeBuilder>();
 		const follow = (k: number, samples: Int16Array | null) => {
