@@ -18,7 +18,7 @@ export interface AlignOptions {
 	referenceIndex?: number;
 	/** Rate the audio is decoded at once; every analysis rate is derived from it. */
 	analysisSampleRate?: number;
-	/** Parallel decodes and worker threads; default: the machine's cores. */
+	/** The machine's cores, by default: worker threads (when used) and half the ffmpeg runs at once. */
 	concurrency?: number;
 	/**
 	 * Where the transforms run: 'pool' in worker threads, 'inline' on this thread. 'auto' uses the
@@ -131,8 +131,8 @@ async function workerFile(): Promise<{ url: string; plainJavaScript: boolean; cl
 /**
  * Which clips share an ffmpeg run. Its start-up (about 0.12 CPU-s here, loading two hundred
  * libraries) costs more than decoding a minute and a half of sound, so short clips are packed
- * together; a long clip gets a run of its own, so its envelope can be read while others decode.
- * A clip of unknown length decodes alone. Longest work first.
+ * together; a run decodes on one core, so a long clip gets a run of its own and long clips
+ * decode side by side. A clip of unknown length decodes alone. Longest work first.
  */
 export function decodeGroups(durations: (number | null)[], sharedSeconds = 300): number[][] {
 	const order = durations.map((duration, index) => ({ duration, index })).sort((x, y) => (y.duration ?? Infinity) - (x.duration ?? Infinity));
@@ -190,7 +190,7 @@ export async function alignFiles(paths: string[], options: AlignOptions = {}): P
 	// Up to twice as many ffmpeg runs as cores at once: with three long clips on two cores, two at
 	// a time leaves the third to decode alone at the end while a core idles; all three at once
 	// share both cores to the finish (and their envelopes are read as they are written).
-	const decodes = mapLimited(groups, Math.max(concurrency, 2 * concurrency), async (group) => {
+	const decodes = mapLimited(groups, 2 * concurrency, async (group) => {
 		// Each clip's envelope is built from its samples as ffmpeg writes them, while the run goes on.
 		const envelopes = new Map<number, OnsetEnvelopeBuilder>();
 		const follow = (k: number, samples: Int16Array | null) => {
