@@ -42,7 +42,7 @@ export const defaultPairOptions: PairOptions = {
 	band: { lowHz: 300, highHz: 3400 },
 	phatExponent: 1,
 	envelopeRate: 125,
-	coarseSegmentSeconds: 60,
+	coarseSegmentSeconds: 30,
 	maxCoarseSegments: 6,
 	// 1.9 s at 8 kHz plus the search margins still fits a 16384-point transform; 2 s would need 32768.
 	windowSeconds: 1.9,
