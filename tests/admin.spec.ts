@@ -112,6 +112,10 @@ test('inviting someone who is already a member is refused with the reason, keepi
 test('an API token is shown once, works as a Bearer token, and is refused with 401 once revoked', async ({ page, playwright, baseURL }) => {
 	await signInAs(page, 'admin');
 	await page.getByRole('link', { name: 'API tokens' }).click();
+	await expect(page).toHaveURL(/\/admin\/tokens$/);
+	// As the other admin tests do: a name typed into the server-rendered form before the page's
+	// script has loaded was once lost on the way to the button (CI, 2026-12-02).
+	await page.waitForLoadState('networkidle');
 	const name = `Render farm ${run}`;
 	await page.getByLabel('Name').fill(name);
 	await page.getByLabel('Role').selectOption('processor');
