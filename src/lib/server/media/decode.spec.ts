@@ -85,6 +85,44 @@ describe('decodeAudio', () => {
 		expect(readdirSync(scratchFolder())).toEqual([]);
 	});
 
+	it('hands over every sample in order while ffmpeg writes, exactly what lands in the scratch file', async () => {
+		const paths = ['fixtures/fountain-lap/high.mp4', 'fixtures/fountain-lap/low.mp4'];
+		const received: Int16Array[][] = paths.map(() => []);
+		const restarts = paths.map(() => 0);
+		const [first, second] = await decodeSounds(paths, {
+			sampleRate,
+			follow: (index, samples) => {
+				if (!samples) {
+					restarts[index]++;
+					received[index] = [];
+				} else received[index].push(samples.slice()); // the array handed over is reused
+			}
+		});
+		for (const [i, result] of [first, second].entries()) {
+			expect(result.status).toBe('fulfilled');
+			if (result.status !== 'fulfilled') continue;
+			const written = new Int16Array(new Uint8Array(readFileSync(result.value.scratchPath)).buffer);
+			const joined = new Int16Array(received[i].reduce((n, chunk) => n + chunk.length, 0));
+			received[i].reduce((at, chunk) => (joined.set(chunk, at), at + chunk.length), 0);
+			expect(joined.length).toBe(written.length);
+			expect(Buffer.compare(Buffer.from(joined.buffer), Buffer.from(written.buffer))).toBe(0);
+			expect(restarts[i]).toBe(1);
+			releaseSound(result.value);
+		}
+	});
+
+	it('fails with the reason when whoever follows the sound fails, and leaves no scratch file', async () => {
+		const [result] = await decodeSounds(['fixtures/fountain-lap/mid.mp4'], {
+			sampleRate,
+			follow: (_, samples) => {
+				if (samples) throw new Error('the envelope could not take more');
+			}
+		});
+		expect(result.status).toBe('rejected');
+		if (result.status === 'rejected') expect(String(result.reason)).toMatch(/mid\.mp4: the decoded sound could not be read back: the envelope could not take more/);
+		expect(readdirSync(scratchFolder())).toEqual([]);
+	});
+
 	it('places the sound at the same samples with soxr and with ffmpeg\'s own resampler', async () => {
 		const decodeBoth = (path: string) =>
 			Promise.all((['soxr', 'swr'] as const).map((resampler) => decodeAudio(path, { sampleRate, resampler })));

@@ -188,7 +188,17 @@ function decodeWith(paths: string[], options: DecodeOptions, resampler: Resample
 	paths.forEach((_, i) => follow?.(i, null));
 	const followers = follow ? outputPaths.map((output, i) => new GrowingFileReader(output, (samples) => follow(i, samples))) : [];
 	// ffmpeg writes each output as it goes; reading behind it overlaps the analysis with the decode.
-	const polling = followers.length ? setInterval(() => followers.forEach((f) => f.readNew()), 20) : null;
+	// A reader or follower that fails stops the reading, and the decode fails with its reason.
+	let followFailure: Error | null = null;
+	const readAll = () => {
+		if (followFailure) return;
+		try {
+			for (const f of followers) f.readNew();
+		} catch (error) {
+			followFailure = error instanceof Error ? error : new Error(String(error));
+		}
+	};
+	const polling = followers.length ? setInterval(readAll, 20) : null;
 	let log = '';
 	child.stderr.setEncoding('utf8');
 	child.stderr.on('data', (text: string) => {
@@ -211,11 +221,14 @@ function decodeWith(paths: string[], options: DecodeOptions, resampler: Resample
 				reject(new MediaReadError(who, log.trim().split('\n').pop() || `ffmpeg could not decode its audio (exit ${code})`));
 				return;
 			}
+			readAll();
+			followers.forEach((f) => f.close());
+			if (followFailure) {
+				removeOutputs();
+				reject(new MediaReadError(who, `the decoded sound could not be read back: ${followFailure.message}`));
+				return;
+			}
 			try {
-				for (const f of followers) {
-					f.readNew();
-					f.close();
-				}
 				resolve(
 					paths.map((source, i) => ({
 						source,
