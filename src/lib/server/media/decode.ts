@@ -50,8 +50,8 @@ export function decodeArguments(paths: string[], sampleRate: number, resampler: 
 	const converter = `aresample=${sampleRate}:resampler=${resampler}${resampler === 'soxr' ? ':precision=20' : ':filter_size=16'}`;
 	// The first sample is the stream's start (its probe says where that is); gaps in the
 	// timestamps after it are filled, at the low rate where that costs a sixth. Padding the start
-	// at the stream's own rate, as before, cost as much again as the rate conversion, and soxr
-	// asked to pad shifts the sound by its filter delay.
+	// at the stream's own rate would cost as much again as the rate conversion, and soxr asked to
+	// pad shifts the sound by its filter delay.
 	// Decoders hand over small frames (1024 samples for AAC) and every filter pays per frame, in
 	// allocations and bookkeeping about as much as the conversion itself; regrouped into frames of
 	// 16384 samples (without padding the last) the same sound goes through for about a fifth less.
@@ -61,7 +61,7 @@ export function decodeArguments(paths: string[], sampleRate: number, resampler: 
 		'-copyts',
 		...paths.flatMap((path) => ['-i', path]),
 		'-filter_complex', chains.join(';'),
-		// 16-bit samples, kept as they are: half the memory of float, far below any microphone's noise floor.
+		// 16-bit samples, kept as they are: half the scratch space of float, far below any microphone's noise floor.
 		...outputPaths.flatMap((output, i) => ['-map', `[pcm${i}]`, '-f', 's16le', output])
 	];
 }
