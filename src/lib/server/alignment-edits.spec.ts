@@ -79,6 +79,11 @@ describe('the alignment job’s revision', () => {
 		expect(afterRun.usable[0]).toEqual(expect.any(Number));
 		expect(afterRun.usable[1]! - afterRun.usable[0]!).toBeGreaterThan(60);
 		for (const clip of afterRun.clips) expect(clip).toMatchObject({ matched: true, syncMethod: 'audio', offsetSeconds: expect.any(Number) });
+		// The workbench's common span (the limit for the usable span) is the engine's, which the run
+		// marked usable: both end half a frame after a camera's last frame, not at its media's end.
+		const common = m.edits.workbenchOf(scope, sessionId).commonSpan!;
+		expect(common.startSeconds).toBeCloseTo(afterRun.usable[0]!, 6);
+		expect(common.endSeconds).toBeCloseTo(afterRun.usable[1]!, 6);
 		const run = m.edits.workbenchOf(scope, sessionId).revisions.find((r) => r.kind === 'alignment')!;
 		expect(run.summary).toBe('aligned by sound (2 clips placed)');
 

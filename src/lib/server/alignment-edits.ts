@@ -2,6 +2,8 @@ import { json } from '@sveltejs/kit';
 import { desc, eq, gt } from 'drizzle-orm';
 import { z } from 'zod';
 import { commonSpan, reexpressRelativeTo, trimProblem, usableSpanProblem, type Span } from '$lib/sync/nudge';
+import { frameSpanSeconds } from '$lib/sync/frames';
+import { frameTimingOfStored } from '$lib/sync/timing-table';
 import { recordActivity } from './activity';
 import { clipsOfSession } from './capture-sessions';
 import { publicClip } from './clips';
@@ -177,8 +179,20 @@ function includedPlaced(sessionClips: Clip[]) {
 			driftPpm: c.driftPpm ?? 0,
 			durationSeconds: c.durationSeconds!,
 			trimStartSeconds: c.trimStartSeconds,
-			trimEndSeconds: c.trimEndSeconds
+			trimEndSeconds: c.trimEndSeconds,
+			frameSpan: constantFrameSpan(c)
 		}));
+}
+
+/**
+ * Where a clip with constant frame timing has frames, in clip time. A clip with variable timing
+ * keeps its frame times in a file; its span is left to its media (the engine's common span,
+ * which the usable span starts from, does use its frames).
+ */
+function constantFrameSpan(clip: Clip): { start: number; end: number } | null {
+	if (clip.variableFrameRate || !clip.videoCodec) return null;
+	const timing = frameTimingOfStored(clip, null);
+	return timing ? frameSpanSeconds(timing.frames) : null;
 }
 
 /** Where every included, placed clip has media (trims honoured), in session time. */

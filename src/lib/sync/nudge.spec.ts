@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { sessionTimeOf } from './frames';
+import { frameSpanSeconds, sessionTimeOf } from './frames';
 import { clipSessionSpan, commonSpan, nudgedOffset, reexpressRelativeTo, stepSeconds, trimProblem, usableSpanProblem } from './nudge';
 
 const high = { sampleRate: 48000, frameRate: { num: 60000, den: 1001 } };
@@ -60,6 +60,17 @@ describe('spans', () => {
 		expect(common.startSeconds).toBeCloseTo(9.8, 12);
 		expect(common.endSeconds).toBeCloseTo(82.8, 12);
 		expect(commonSpan([clips[0], { offsetSeconds: 100, driftPpm: 0, durationSeconds: 5 }])).toBeNull();
+	});
+
+	it('ends where the last frame of a camera does, half a frame after it, as the engine\'s common span does', () => {
+		// The demo's low camera: 30 fps, 2220 frames (74 s), placed at +8.798934 s and +31.07 ppm.
+		const low = { offsetSeconds: 8.798934, driftPpm: 31.07, durationSeconds: 74.0, frameSpan: frameSpanSeconds({ kind: 'constant', frameRate: { num: 30, den: 1 }, firstFrameSeconds: 0, frameCount: 2220 }) };
+		const span = clipSessionSpan(low);
+		// Last frame at 2219/30 s; half a frame (1/60 s) later is where its frame stops being the nearest.
+		expect(span.endSeconds).toBeCloseTo(8.798934 + (2219 / 30 + 1 / 60) * (1 + 31.07e-6), 9);
+		expect(span.endSeconds).toBeLessThan(clipSessionSpan({ ...low, frameSpan: null }).endSeconds);
+		// A trim inside the frames still decides.
+		expect(clipSessionSpan({ ...low, trimEndSeconds: 60 }).endSeconds).toBeCloseTo(8.798934 + 60 * (1 + 31.07e-6), 9);
 	});
 
 	it('refuses a usable span outside the common span or backwards', () => {

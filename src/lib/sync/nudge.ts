@@ -76,6 +76,12 @@ export interface SpanClip extends ClipPlacement {
 	durationSeconds: number;
 	trimStartSeconds?: number | null;
 	trimEndSeconds?: number | null;
+	/**
+	 * Clip time from half a frame before the first frame to half a frame after the last
+	 * (`frameSpanSeconds`), when the clip has video: a timing table names a frame of this camera
+	 * only inside it, so the common span the engine reports ends there too.
+	 */
+	frameSpan?: { start: number; end: number } | null;
 }
 
 export interface Span {
@@ -83,11 +89,15 @@ export interface Span {
 	endSeconds: number;
 }
 
-/** Where a clip has (untrimmed-away) media, in session time. */
+/** Where a clip has (untrimmed-away) media, and frames when it has video, in session time. */
 export function clipSessionSpan(clip: SpanClip): Span {
 	const scale = 1 + clip.driftPpm * 1e-6;
-	const from = clip.trimStartSeconds ?? 0;
-	const to = clip.trimEndSeconds ?? clip.durationSeconds;
+	let from = clip.trimStartSeconds ?? 0;
+	let to = clip.trimEndSeconds ?? clip.durationSeconds;
+	if (clip.frameSpan) {
+		from = Math.max(from, clip.frameSpan.start);
+		to = Math.min(to, clip.frameSpan.end);
+	}
 	return { startSeconds: clip.offsetSeconds + from * scale, endSeconds: clip.offsetSeconds + to * scale };
 }
 
