@@ -20,12 +20,6 @@ export function fftOfSize(size: number): FFT {
 }
 
 /**
- * Spectrum of a real signal zero-padded to `size` (a power of two), as interleaved
- * re/im pairs. Only bins 0..size/2 are filled; the rest is the conjugate mirror.
- */
-const inputScratch = new Map<number, Float64Array>();
-
-/**
  * A named work array, kept between calls: a window's transforms need about a megabyte of arrays,
  * and fresh memory is what costs here (a page fault for every 4 KB the first time it is written).
  * What a caller gets is overwritten by the next call asking for the same name and length.
@@ -43,6 +37,10 @@ export function scratchArray(name: string, length: number): Float64Array {
 	return array;
 }
 
+/**
+ * Spectrum of a real signal zero-padded to `size` (a power of two), as interleaved
+ * re/im pairs. Only bins 0..size/2 are filled; the rest is the conjugate mirror.
+ */
 export function realSpectrum(
 	signal: ArrayLike<number>,
 	size: number,
@@ -50,13 +48,7 @@ export function realSpectrum(
 	length = signal.length - offset,
 	out: Float64Array = new Float64Array(2 * size)
 ): Float64Array {
-	// The zero-padded input is scratch: reused per size, so long correlations do not churn memory.
-	let input = inputScratch.get(size);
-	if (!input) {
-		if (inputScratch.size > 4) inputScratch.clear();
-		input = new Float64Array(size);
-		inputScratch.set(size, input);
-	}
+	const input = scratchArray('spectrum-input', size);
 	const n = Math.min(length, size);
 	for (let i = 0; i < n; i++) input[i] = signal[offset + i];
 	input.fill(0, n);

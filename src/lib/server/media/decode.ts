@@ -290,18 +290,25 @@ class GrowingFileReader {
 	}
 }
 
-/** A whole scratch file in memory. The machine's byte order is little-endian (x64, arm64). */
+/**
+ * Fills `samples` from a scratch file, starting at sample `firstSample`. The machine's byte order
+ * is little-endian (x64, arm64), as the files are.
+ */
+export function readSamplesAt(fd: number, samples: Int16Array, firstSample: number) {
+	const bytes = new Uint8Array(samples.buffer, samples.byteOffset, samples.byteLength);
+	for (let offset = 0; offset < bytes.length; ) {
+		const read = readSync(fd, bytes, offset, Math.min(1 << 26, bytes.length - offset), firstSample * 2 + offset);
+		if (read === 0) throw new Error('the decoded sound ended early');
+		offset += read;
+	}
+}
+
+/** A whole scratch file in memory. */
 function readSamples(filePath: string): Int16Array {
 	const fd = openSync(filePath, 'r');
 	try {
-		const size = fstatSync(fd).size & ~1;
-		const samples = new Int16Array(size / 2);
-		const bytes = new Uint8Array(samples.buffer);
-		for (let offset = 0; offset < size; ) {
-			const read = readSync(fd, bytes, offset, Math.min(1 << 26, size - offset), offset);
-			if (read === 0) throw new Error('the file ended early');
-			offset += read;
-		}
+		const samples = new Int16Array(fstatSync(fd).size >> 1);
+		readSamplesAt(fd, samples, 0);
 		return samples;
 	} finally {
 		closeSync(fd);

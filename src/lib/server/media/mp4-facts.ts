@@ -262,6 +262,14 @@ function optional(boxes: Box[], type: string, where: string): Box | null {
 	return found[0] ?? null;
 }
 
+/** The one sample-table box of two kinds that say the same thing (32-bit or compact/64-bit): exactly one must be there. */
+function eitherBox(tableBoxes: Box[], type: string, alternative: string, what: string): Box {
+	const box = optional(tableBoxes, type, 'stbl');
+	const other = optional(tableBoxes, alternative, 'stbl');
+	if (!box === !other) decline(`${what} missing or given twice`);
+	return (box ?? other)!;
+}
+
 function requireBytes(box: Box, bytes: number): void {
 	if (box.end - box.start < bytes) decline(`${box.type} box too short`);
 }
@@ -533,10 +541,7 @@ function readFirstCompositionOffset(movie: Movie, ctts: Box): number | null {
 }
 
 function readSampleCount(movie: Movie, tableBoxes: Box[]): number {
-	const stsz = optional(tableBoxes, 'stsz', 'stbl');
-	const stz2 = optional(tableBoxes, 'stz2', 'stbl');
-	if (!stsz === !stz2) decline('sample sizes missing or given twice');
-	const box = (stsz ?? stz2) as Box;
+	const box = eitherBox(tableBoxes, 'stsz', 'stz2', 'sample sizes');
 	requireBytes(box, 12);
 	movie.require(box.start, box.start + 12);
 	const count = movie.view.getUint32(box.start + 8);
@@ -551,10 +556,7 @@ function readSampleCount(movie: Movie, tableBoxes: Box[]): number {
  */
 function checkChunks(movie: Movie, tableBoxes: Box[]): void {
 	const { view } = movie;
-	const stco = optional(tableBoxes, 'stco', 'stbl');
-	const co64 = optional(tableBoxes, 'co64', 'stbl');
-	if (!stco === !co64) decline('chunk offsets missing or given twice');
-	const offsets = (stco ?? co64) as Box;
+	const offsets = eitherBox(tableBoxes, 'stco', 'co64', 'chunk offsets');
 	requireBytes(offsets, 8);
 	movie.require(offsets.start, offsets.start + 8);
 	const chunkCount = view.getUint32(offsets.start + 4);
