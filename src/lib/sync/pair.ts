@@ -105,11 +105,7 @@ export function envelopeOptions(options: Pick<PairOptions, 'envelopeRate' | 'ban
 
 export function prepareTrack(pcm: PcmTrack, options: Pick<PairOptions, 'envelopeRate' | 'band'> = defaultPairOptions): AnalysisTrack {
 	const envelope = onsetEnvelope(pcm.samples, pcm.sampleRate, pcm.startSeconds, envelopeOptions(options, pcm.fullScale ?? 1));
-	return analysisTrack(pcmSource(pcm), envelope);
-}
-
-export function analysisTrack(pcm: PcmSource, envelope: OnsetEnvelope): AnalysisTrack {
-	return { pcm, envelope, levelDb: levelDbOf(envelope) };
+	return { pcm: pcmSource(pcm), envelope, levelDb: levelDbOf(envelope) };
 }
 
 export function levelDbOf(envelope: OnsetEnvelope): number {
